@@ -1,0 +1,6 @@
+"""``python -m stepcheck``."""
+
+from .cli import main
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,1 @@
+"""Checks that need no numbers: index bookkeeping, shapes, layout."""

@@ -1,0 +1,1 @@
+"""The context stage: vocabulary, declarations, assumptions, definitions and shapes of a document."""

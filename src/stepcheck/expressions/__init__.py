@@ -1,0 +1,1 @@
+"""The math reader: tokens, chains and the expression tree."""

@@ -1,0 +1,191 @@
+"""Runs the stages over documents: read → structure → context → checks → decide → report.
+
+This module wires the stages together and owns the per-step time limit; it holds
+no checking logic of its own.
+"""
+
+from __future__ import annotations
+
+import logging
+from typing import Callable, Iterable, Sequence
+
+from . import __version__
+from .checks.indices import check_indices
+from .context.build import DocumentContext, StepPlan, build_context
+from .documents import discover, read_path, read_text
+from .documents.model import Document
+from .expressions.chains import Structure, Unreadable
+from .expressions.splitting import structure_of
+from .limits import StepTimeout, time_limit
+from .results import FileNote, FileReport, Outcome, Report, StepResult
+from .settings import Settings
+from .source import SourceText
+from .verdicts import RelationKind, Verdict
+
+logger = logging.getLogger(__name__)
+
+#: Called after each decided step (for a progress bar): (done, total).
+Progress = Callable[[int, int], None]
+
+
+def check_paths(
+    paths: Sequence[str],
+    settings: Settings = Settings(),
+    include: Sequence[str] = (),
+    exclude: Sequence[str] = (),
+    progress: Progress | None = None,
+) -> Report:
+    """Check documents on disk.
+
+    :raises InputError: a path is missing, unreadable, or a directory holds no documents.
+    """
+    found = discover(paths, include, exclude)
+    documents = [read_path(path, display, root) for path, display, root in found]
+    included = {p for d in documents for p in d.included}
+    documents = [d for d in documents if d.path not in included]
+    return check_documents(documents, settings, progress)
+
+
+def check_text(text: str, kind: str = "tex", settings: Settings = Settings(), path: str = "<text>") -> Report:
+    """Check one document given as a string (``kind`` is ``"tex"`` or ``"md"``)."""
+    return check_documents([read_text(text, kind, path)], settings)
+
+
+def check_documents(
+    documents: Iterable[Document], settings: Settings, progress: Progress | None = None
+) -> Report:
+    """Check read documents and build the report."""
+    files: list[FileReport] = []
+    for document in documents:
+        files.extend(check_document(document, settings, progress))
+    return Report(seed=settings.seed, files=tuple(files), version=__version__, strict=settings.strict)
+
+
+def check_document(document: Document, settings: Settings, progress: Progress | None = None) -> list[FileReport]:
+    """Check one document; one :class:`FileReport` per source it spans (its ``\\input``
+    files and notebook cells report under their own paths)."""
+    structure = structure_of(document)
+    context = build_context(structure, settings)
+    results: list[tuple[int, StepResult]] = []
+    for item in _unreadable_results(structure):
+        results.append(item)
+    total = len(context.plans)
+    for done, plan in enumerate(context.plans, start=1):
+        results.append((plan.step.chain.order, _result(plan, decide_plan(plan, settings))))
+        if progress is not None:
+            progress(done, total)
+    return _group(document, structure, context, results)
+
+
+def decide_plan(plan: StepPlan, settings: Settings) -> Outcome:
+    """The outcome of one planned step, within its time limit."""
+    try:
+        with time_limit(settings.timeout):
+            return _decide(plan, settings)
+    except StepTimeout:
+        return Outcome(Verdict.TIMEOUT, message=f"the step ran past its time limit of {settings.timeout:g} s")
+
+
+def _decide(plan: StepPlan, settings: Settings) -> Outcome:
+    step = plan.step
+    if step.skipped:
+        return Outcome(Verdict.SKIPPED, message="skipped by a directive")
+    if plan.parse_error is not None:
+        message, span = plan.parse_error
+        return Outcome(Verdict.PARSE_ERROR, message=message, column=span.start)
+    assert plan.lhs is not None and plan.rhs is not None
+    relation = step.relation.kind
+    findings = list(plan.findings)
+    findings.extend(check_indices(plan.lhs, plan.rhs, plan.context, step.source))
+    if findings:
+        first = findings[0]
+        return Outcome(first.verdict, message=first.message, hint=first.hint, column=first.span.start)
+    if plan.defines is not None:
+        return Outcome(Verdict.DEFINES, message=f"defines {plan.defines.name}")
+    if plan.assumes is not None:
+        return Outcome(
+            Verdict.DEFINES, message=f"assumes {plan.assumes.name} is {plan.assumes.kind.value}"
+        )
+    if relation is RelationKind.APPROX:
+        return Outcome(Verdict.SKIPPED, message=f"relation {step.relation.text} is reported, not checked")
+    from .evaluation import decide  # sympy loads only when something is decided
+
+    return decide(plan.lhs, plan.rhs, relation, plan.context, settings)
+
+
+def _result(plan: StepPlan, outcome: Outcome) -> StepResult:
+    step = plan.step
+    source = step.source
+    position = source.position(step.position_offset)
+    return StepResult(
+        path=source.path,
+        line=position.line,
+        column=position.column,
+        chain=step.chain.number,
+        step=step.index,
+        relation=step.relation.text,
+        lhs=step.lhs.latex(source),
+        rhs=step.rhs.latex(source),
+        outcome=outcome,
+    )
+
+
+def _unreadable_results(structure: Structure) -> Iterable[tuple[int, StepResult]]:
+    for item in structure.unreadable:
+        yield item.order, _unreadable_result(item)
+
+
+def _unreadable_result(item: Unreadable) -> StepResult:
+    position = item.source.position(item.span.start)
+    return StepResult(
+        path=item.source.path,
+        line=position.line,
+        column=position.column,
+        chain=item.chain,
+        step=1,
+        relation="",
+        lhs="",
+        rhs="",
+        outcome=Outcome(Verdict.PARSE_ERROR, message=item.message),
+    )
+
+
+def _group(
+    document: Document,
+    structure: Structure,
+    context: DocumentContext,
+    results: list[tuple[int, StepResult]],
+) -> list[FileReport]:
+    """Steps and notes grouped by reported path, paths in order of first appearance."""
+    order: list[str] = [document.path]
+    steps: dict[str, list[StepResult]] = {document.path: []}
+    notes: dict[str, list[FileNote]] = {document.path: []}
+
+    def bucket(path: str) -> None:
+        if path not in steps:
+            order.append(path)
+            steps[path] = []
+            notes[path] = []
+
+    for block in document.blocks:
+        bucket(block.source.path)
+    results.sort(key=lambda item: (item[0], item[1].line, item[1].column))
+    for _, result in results:
+        bucket(result.path)
+        steps[result.path].append(result)
+    for note in document.notes:
+        _add_note(notes, bucket, note.source, note.span.start, note.message)
+    for note in context.notes:
+        _add_note(notes, bucket, note.source, note.span.start, note.message)
+    if document.kind == "ipynb" and not steps[document.path] and not notes[document.path]:
+        order.remove(document.path)  # a notebook reports per cell
+    return [FileReport(path, tuple(steps[path]), tuple(notes[path])) for path in order]
+
+
+def _add_note(notes: dict[str, list[FileNote]], bucket: Callable[[str], None], source: SourceText, offset: int, message: str) -> None:
+    bucket(source.path)
+    position = source.position(offset)
+    notes[source.path].append(FileNote(position.line, position.column, message))
+
+
+__all__ = ["check_paths", "check_text", "check_documents", "check_document", "decide_plan"]
