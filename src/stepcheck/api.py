@@ -2,19 +2,21 @@
 
 from __future__ import annotations
 
-from dataclasses import fields
 from typing import Any, Sequence
 
+from .config import settings_from_options
 from .results import Report
 from .settings import Settings
 
 
 def _settings(options: dict[str, Any]) -> Settings:
-    known = {f.name for f in fields(Settings)}
-    unknown = sorted(set(options) - known)
-    if unknown:
-        raise TypeError(f"unknown option(s): {', '.join(unknown)}")
-    return Settings(**options)
+    """Settings from keyword options; string values as in the configuration file are
+    accepted (``layout="denominator"``, ``indices="up-down"``, ``summation="explicit"``).
+
+    :raises TypeError: an unknown option.
+    :raises ValueError: a bad value.
+    """
+    return settings_from_options(options)
 
 
 def check_paths(paths: Sequence[str] | str, **options: Any) -> Report:
@@ -22,7 +24,9 @@ def check_paths(paths: Sequence[str] | str, **options: Any) -> Report:
 
     :param paths: one path or several (directories recurse over .tex, .md, .markdown, .ipynb).
     :param options: any field of :class:`~stepcheck.settings.Settings` (``seed``, ``trials``,
-        ``timeout``, ``layout``, ``strict`` …), plus ``include``/``exclude`` glob lists.
+        ``timeout``, ``layout``, ``strict`` …) or configuration key (``indices``), with enum
+        members or the configuration's strings (``layout="denominator"``), plus
+        ``include``/``exclude`` glob lists.
     :raises stepcheck.documents.InputError: a path is missing or unreadable.
     :returns: the report; ``Report.to_dict()`` is the SPEC §11 JSON.
     """
