@@ -15,7 +15,6 @@ import logging
 import os
 import pathlib
 import time
-import traceback
 from dataclasses import dataclass
 from typing import Any, NoReturn, Sequence, TextIO
 
@@ -123,14 +122,13 @@ class StepcheckGroup(click.Group):
 
 def _where(error: BaseException) -> str:
     """The function an error was raised in, as ``module.function``."""
-    frames = traceback.extract_tb(error.__traceback__)
-    if not frames:
+    tb = error.__traceback__
+    if tb is None:
         return str(error) or type(error).__name__
-    frame = frames[-1]
-    module = pathlib.Path(frame.filename).with_suffix("").parts
-    if "stepcheck" in module:
-        module = module[len(module) - module[::-1].index("stepcheck") - 1 :]
-    return ".".join(p for p in module if p != "__init__") + f".{frame.name}"
+    while tb.tb_next is not None:
+        tb = tb.tb_next
+    module = tb.tb_frame.f_globals.get("__name__", "?")
+    return f"{module}.{tb.tb_frame.f_code.co_name}"
 
 
 def _debug(ctx: click.Context, param: click.Parameter, value: bool) -> bool:
@@ -154,7 +152,7 @@ _layout_option = click.option(
 )
 
 
-@click.group(cls=StepcheckGroup, context_settings={"help_option_names": ["-h", "--help"]})
+@click.group("stepcheck", cls=StepcheckGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, "--version", "-V", prog_name="stepcheck", message="%(prog)s %(version)s")
 def cli() -> None:
     """Check every step of tensor and matrix calculus derivations in LaTeX and Markdown."""
