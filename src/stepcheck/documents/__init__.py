@@ -5,16 +5,15 @@ from __future__ import annotations
 import pathlib
 from typing import Sequence
 
-from ..source import SourceError
+from ..source import SourceText
+from .files import SUFFIXES, InputError, kind_of, read_document_text
+from .files import discover as _discover
+from .markdown import read_markdown_document
 from .model import Document
+from .notebook import read_notebook
+from .tex import read_tex
 
-
-class InputError(SourceError):
-    """A file the tool cannot read: missing, not UTF-8, binary, a directory with no documents."""
-
-
-#: File suffixes read, and the reader kind of each.
-SUFFIXES = {".tex": "tex", ".md": "md", ".markdown": "md", ".ipynb": "ipynb"}
+__all__ = ["InputError", "SUFFIXES", "discover", "read_path", "read_text"]
 
 
 def discover(
@@ -29,17 +28,35 @@ def discover(
     :returns: ``(file, display path, root)`` per document, in a stable order; ``root`` is the
         folder ``\\input`` may read from.
     """
-    raise NotImplementedError  # documents helper
+    return _discover(paths, include, exclude)
 
 
 def read_path(path: pathlib.Path, display: str, root: pathlib.Path) -> Document:
-    """Read one document from disk (following ``\\input`` inside ``root``).
+    """Read one document from disk (following ``\\input`` inside ``root``).  The file
+    is opened for reading only.
 
-    :raises InputError: unreadable, not UTF-8, binary.
+    :raises InputError: unreadable, not UTF-8, binary, malformed notebook.
     """
-    raise NotImplementedError  # documents helper
+    kind = kind_of(path)
+    text = read_document_text(path, display)
+    if kind == "ipynb":
+        return read_notebook(text, display)
+    if kind == "md":
+        return read_markdown_document(SourceText(display, text))
+    return read_tex(SourceText(display, text), path, root)
 
 
 def read_text(text: str, kind: str, path: str = "<text>") -> Document:
-    """Read one document from a string (``kind`` is ``"tex"`` or ``"md"``); no ``\\input``."""
-    raise NotImplementedError  # documents helper
+    """Read one document from a string (``kind`` is ``"tex"``, ``"md"`` or ``"ipynb"``);
+    ``\\input`` is not followed (a note says so).
+
+    :raises InputError: an unknown kind, or a malformed notebook.
+    """
+    text = text.removeprefix("\ufeff")
+    if kind == "tex":
+        return read_tex(SourceText(path, text))
+    if kind == "md":
+        return read_markdown_document(SourceText(path, text))
+    if kind == "ipynb":
+        return read_notebook(text, path)
+    raise InputError(f"unknown document kind {kind!r} (expected 'tex', 'md' or 'ipynb')")

@@ -108,6 +108,9 @@ class MacroDefinition:
     """True for ``\\DeclareMathOperator``: the body names a function."""
     provide: bool = False
     """True for ``\\providecommand``: an earlier definition wins."""
+    order: int = 0
+    """Document order (shared with :attr:`MathBlock.order`), so a block uses the
+    definition in force where it stands (``\\renewcommand`` later changes later blocks)."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -117,6 +120,19 @@ class ReaderNote:
     message: str
     source: SourceText
     span: Span
+
+
+@dataclass(frozen=True, slots=True)
+class MathProblem:
+    """Math a reader found but could not delimit (an unterminated ``\\begin{align}``,
+    ``$$`` or ``\\[``).  The splitting stage reports it as a ``parse-error`` entry."""
+
+    message: str
+    source: SourceText
+    span: Span
+    """Where the problem starts (the opening delimiter)."""
+    order: int
+    """Document order (shared with :attr:`MathBlock.order`)."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -138,3 +154,5 @@ class Document:
     included: tuple[str, ...] = ()
     """Paths of files read through ``\\input``/``\\include`` (so a directory walk reads
     them once, as part of this document)."""
+    problems: tuple[MathProblem, ...] = ()
+    """Math that could not be delimited, in document order (each becomes a parse-error)."""

@@ -1,12 +1,275 @@
-"""A document's math cut into rows, chains and steps (SPEC §3), macros expanded."""
+"""A document's math cut into rows, chains and steps (SPEC §3), macros expanded.
+
+For each block, in document order: tokenize its excerpt (offsets mapped to the file),
+expand user macros, then for a display cut rows, logical lines and chains
+(:mod:`.rows`); for inline math and math directives, keep one row and the inline
+chains that "where …" definitions are read from.  Directives decide which steps are
+skipped.  Chains and unreadable entries are numbered per source path from 1.
+"""
 
 from __future__ import annotations
 
-from ..documents.model import Document
-from .chains import Structure
+import logging
+from dataclasses import dataclass, field
+from typing import Union
+
+from ..documents.directives import Directive, DirectiveError, DirectiveWord, MathDirective, interpret
+from ..documents.model import BlockKind, Document, Excerpt, MathBlock
+from ..source import SourceError, SourceText, Span
+from .chains import Chain, Relation, Row, Side, Structure, Unreadable
+from .expand import Expander, MacroTable
+from .rows import ChainDraft, DraftError, chains_of_line, clean_row, drop_transparent, logical_lines, relation_text, split_rows
+from .relations import span_of
+from .tokens import MathSyntaxError, Token, TokenKind, tokenize
+
+logger = logging.getLogger(__name__)
+
+#: Longest math block read (characters); longer is a parse error, not a long wait.
+MAX_BLOCK_CHARS = 50_000
+
+
+@dataclass(frozen=True, slots=True)
+class _Entry:
+    """Something that takes a chain number: a chain to build, or an unreadable entry."""
+
+    source: SourceText
+    order: int
+    draft: Union[ChainDraft, DraftError]
+    no_sum: bool = False
+    skipped: tuple[bool, ...] = ()
+
+
+@dataclass
+class _Switches:
+    """What word directives say about skipping, by document order."""
+
+    skip_blocks: set[int] = field(default_factory=set)
+    toggles: list[tuple[int, bool]] = field(default_factory=list)
+    """``(order, off?)`` of ``off``/``on`` directives."""
+    row_end: dict[int, list[Directive]] = field(default_factory=dict)
+    """Row-end directives by the order of the display they stand in."""
+
+    def off_at(self, order: int) -> bool:
+        state = False
+        for at, off in self.toggles:
+            if at >= order:
+                break
+            state = off
+        return state
 
 
 def structure_of(document: Document) -> Structure:
     """Tokenize every block, expand user macros, interpret directives, split displays
     into chains (numbered per source file from 1) and collect rows for the context stage."""
-    raise NotImplementedError  # documents helper
+    return _Builder(document).build()
+
+
+class _Builder:
+    def __init__(self, document: Document):
+        self.document = document
+        self.expander = Expander(MacroTable(document.macros))
+        self.rows: list[Row] = []
+        self.inline_chains: list[Chain] = []
+        self.directives: list[Directive] = []
+        self.entries: list[_Entry] = []
+
+    def build(self) -> Structure:
+        switches = self._directives()
+        for block in self.document.blocks:
+            self._block(block, switches)
+        for problem in self.document.problems:
+            self.entries.append(_Entry(problem.source, problem.order, DraftError(problem.message, problem.span)))
+        chains, unreadable = self._number()
+        return Structure(
+            chains=tuple(chains),
+            inline_chains=tuple(self.inline_chains),
+            rows=tuple(sorted(self.rows, key=lambda r: r.order)),
+            unreadable=tuple(unreadable),
+            directives=tuple(self.directives),
+        )
+
+    # -- directives -------------------------------------------------------------------
+
+    def _directives(self) -> _Switches:
+        switches = _Switches()
+        displays = [b for b in self.document.blocks if b.kind is BlockKind.DISPLAY]
+        for text in self.document.directives:
+            try:
+                result = interpret(text)
+            except DirectiveError as exc:
+                self._error(text.source, text.order, exc)
+                continue
+            if isinstance(result, MathDirective):
+                self._math_directive(result)
+                continue
+            self.directives.append(result)
+            if result.at_row_end:
+                home = _display_holding(displays, result)
+                if home is not None:
+                    switches.row_end.setdefault(home.order, []).append(result)
+                    continue
+            if result.word is DirectiveWord.SKIP:
+                target = next((b for b in displays if b.order > result.order), None)
+                if target is not None:
+                    switches.skip_blocks.add(target.order)
+            elif result.word in (DirectiveWord.OFF, DirectiveWord.ON):
+                switches.toggles.append((result.order, result.word is DirectiveWord.OFF))
+        return switches
+
+    def _math_directive(self, directive: MathDirective) -> None:
+        excerpt = Excerpt(directive.body, (0,), (directive.span.start,))
+        try:
+            tokens = self._tokens(excerpt, directive.source, directive.order)
+        except SourceError as exc:
+            self._error(directive.source, directive.order, exc)
+            return
+        self.rows.append(Row(directive.source, tuple(_math_only(tokens)), True, directive.order))
+
+    def _error(self, source: SourceText, order: int, exc: SourceError) -> None:
+        span = exc.span if exc.span is not None else Span(0, 0)
+        self.entries.append(_Entry(source, order, DraftError(exc.message, span)))
+
+    # -- blocks -------------------------------------------------------------------------
+
+    def _tokens(self, excerpt: Excerpt, source: SourceText, order: int) -> list[Token]:
+        """A block's tokens, spans in the file, user macros expanded.
+
+        :raises SourceError: unbalanced braces, nesting too deep, a block too long, a macro
+            that cannot be expanded; located in the file.
+        """
+        if len(excerpt.text) > MAX_BLOCK_CHARS:
+            at = excerpt.to_file(0)
+            raise MathSyntaxError(
+                f"this math is {len(excerpt.text)} characters long; the most read in one block is {MAX_BLOCK_CHARS}",
+                source, Span(at, at + 1),
+            )
+        try:
+            local = tokenize(excerpt.text, 0, None)
+        except MathSyntaxError as exc:
+            span = _to_file(excerpt, exc.span) if exc.span is not None else Span(excerpt.to_file(0), excerpt.to_file(0))
+            raise MathSyntaxError(exc.message, source, span) from exc
+        except RecursionError as exc:
+            at = excerpt.to_file(0)
+            raise MathSyntaxError("math nests too deeply to read", source, Span(at, at + 1)) from exc
+        tokens = [Token(t.kind, t.text, _to_file(excerpt, t.span), t.space_before) for t in local]
+        return self.expander.expand(tokens, order, source)
+
+    def _block(self, block: MathBlock, switches: _Switches) -> None:
+        try:
+            tokens = self._tokens(block.excerpt, block.source, block.order)
+        except SourceError as exc:
+            self._error(block.source, block.order, exc)
+            return
+        if block.kind is BlockKind.INLINE:
+            self._inline(block, tokens)
+        else:
+            self._display(block, tokens, switches)
+
+    def _inline(self, block: MathBlock, tokens: list[Token]) -> None:
+        math = _math_only(tokens)
+        if not math:
+            return
+        self.rows.append(Row(block.source, tuple(math), True, block.order))
+        cleaned = clean_row(math)
+        for line in logical_lines([cleaned]):
+            for draft in chains_of_line(line, block.source):
+                if isinstance(draft, ChainDraft):
+                    chain = _chain(block.source, 0, draft, cleaned.no_sum, (False,) * len(draft.relations), block.order)
+                    self.inline_chains.append(chain)
+
+    def _display(self, block: MathBlock, tokens: list[Token], switches: _Switches) -> None:
+        rows, breaks = split_rows(drop_transparent(tokens))
+        for row in rows:
+            math = _math_only(row)
+            if math:
+                self.rows.append(Row(block.source, tuple(math), False, block.order))
+        skip_rows, off_rows = self._row_switches(block, rows, breaks, switches)
+        cleaned = [clean_row(row) for row in rows]
+        join_all = block.environment.startswith("multline")
+        for line in logical_lines(cleaned, join_all):
+            for draft in chains_of_line(line, block.source):
+                if isinstance(draft, DraftError):
+                    self.entries.append(_Entry(block.source, block.order, draft))
+                    continue
+                skipped = tuple(
+                    block.order in switches.skip_blocks or skip_rows[r] or off_rows[r] for r in draft.relation_rows
+                )
+                no_sum = any(cleaned[r].no_sum for r in draft.rows)
+                self.entries.append(_Entry(block.source, block.order, draft, no_sum, skipped))
+
+    def _row_switches(
+        self, block: MathBlock, rows: list[list[Token]], breaks: list[Token], switches: _Switches
+    ) -> tuple[list[bool], list[bool]]:
+        """Per row: skipped by a row-end ``skip``; inside ``off``…``on``."""
+        skip = [False] * len(rows)
+        off = [switches.off_at(block.order)] * len(rows)
+        for directive in switches.row_end.get(block.order, []):
+            row = _row_of(directive.span.start, rows, breaks, block.source)
+            if directive.word is DirectiveWord.SKIP:
+                skip[row] = True
+            elif directive.word in (DirectiveWord.OFF, DirectiveWord.ON):
+                for k in range(row, len(rows)):
+                    off[k] = directive.word is DirectiveWord.OFF
+        return skip, off
+
+    # -- numbering ----------------------------------------------------------------------
+
+    def _number(self) -> tuple[list[Chain], list[Unreadable]]:
+        counters: dict[str, int] = {}
+        chains: list[Chain] = []
+        unreadable: list[Unreadable] = []
+        for entry in sorted(self.entries, key=lambda e: e.order):  # stable: keeps order within a block
+            number = counters.get(entry.source.path, 0) + 1
+            counters[entry.source.path] = number
+            if isinstance(entry.draft, DraftError):
+                draft = entry.draft
+                unreadable.append(Unreadable(entry.source, draft.span, draft.message, number, entry.order))
+            else:
+                chains.append(_chain(entry.source, number, entry.draft, entry.no_sum, entry.skipped, entry.order))
+        return chains, unreadable
+
+
+def _chain(source: SourceText, number: int, draft: ChainDraft, no_sum: bool, skipped: tuple[bool, ...], order: int) -> Chain:
+    sides = tuple(Side(side, span_of(side)) for side in draft.sides)
+    relations = tuple(
+        Relation(found.kind, relation_text(tokens, source), found.mark, span_of(tokens)) for found, tokens in draft.relations
+    )
+    return Chain(source, number, sides, relations, no_sum, skipped, order)
+
+
+def _math_only(tokens: list[Token]) -> list[Token]:
+    """Tokens without alignment marks and comments (what a :class:`Row` holds)."""
+    return [t for t in tokens if t.kind not in (TokenKind.ALIGN, TokenKind.COMMENT)]
+
+
+def _to_file(excerpt: Excerpt, span: Span) -> Span:
+    """A span local to an excerpt's text as a span in the file."""
+    start = excerpt.to_file(span.start)
+    end = excerpt.to_file(span.end - 1) + 1 if span.end > span.start else start
+    return Span(start, end)
+
+
+def _display_holding(displays: list[MathBlock], directive: Directive) -> MathBlock | None:
+    for block in displays:
+        if block.source is directive.source and block.span.start <= directive.span.start < block.span.end:
+            return block
+    return None
+
+
+def _row_of(offset: int, rows: list[list[Token]], breaks: list[Token], source: SourceText) -> int:
+    """The row a directive comment at ``offset`` applies to: the row of the last token
+    before it on its line (a ``\\\\`` belongs to the row it ends), else, for a comment
+    on a line of its own, the row of the next token."""
+    placed: list[tuple[Token, int]] = []
+    for index, row in enumerate(rows):
+        placed.extend((t, index) for t in row if t.kind is not TokenKind.COMMENT)
+        if index < len(breaks):
+            placed.append((breaks[index], index))
+    line = source.position(offset).line
+    before = [(t, r) for t, r in placed if t.span.end <= offset]
+    if before and source.position(max(before[-1][0].span.end - 1, 0)).line == line:
+        return before[-1][1]
+    after = next((r for t, r in placed if t.span.start >= offset), None)
+    if after is not None:
+        return after
+    return len(rows) - 1

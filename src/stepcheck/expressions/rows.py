@@ -1,0 +1,332 @@
+"""Cutting a display's tokens into rows, logical lines and chains (SPEC §3), as plain
+token work: no document, no directives, no numbering (see :mod:`.splitting`).
+
+* rows at ``\\\\`` outside braces, ``\\left…\\right`` and environments (``pmatrix``,
+  ``cases``, ``array`` …); ``aligned``/``split``/``gathered`` are transparent;
+* a row that starts with a relation continues the previous row's chain, one that
+  starts with ``+ - \\cdot \\times`` its last expression (``multline`` joins all rows);
+* a logical line splits into chains at depth-0 separators, and each chain into sides
+  at depth-0 relations.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from typing import Sequence
+
+from ..source import SourceText, Span
+from .relations import (
+    ANNOTATIONS, CONTINUATION_COMMANDS, CONTINUATION_SYMBOLS, DELIMITER_TAKERS, DROPPED, DROPPED_WITH_GROUP,
+    DROPPED_WITH_TEXT, SEPARATORS, TRAILING_PUNCTUATION, TRANSPARENT_ENVIRONMENTS, FoundRelation,
+    relation_at, span_of, tokens_latex, walk,
+)
+from .tokens import Token, TokenKind
+
+#: An annotation that makes a row's repeated indices unsummed.
+_NO_SUM = re.compile(r"^no\s+sum(mation)?\b")
+_SPACING_AFTER_COMMA = DROPPED | SEPARATORS
+
+#: Unit categories (see :func:`units`).
+SPACE, NOTE, SEPARATOR, PUNCT, OTHER = "space", "note", "separator", "punct", "other"
+
+
+@dataclass(frozen=True, slots=True)
+class Placed:
+    """A token with the index of the display row it came from."""
+
+    token: Token
+    row: int
+
+
+@dataclass(frozen=True, slots=True)
+class ChainDraft:
+    """A chain before it is numbered: sides, relations and the rows of its relations."""
+
+    sides: tuple[tuple[Token, ...], ...]
+    relations: tuple[tuple[FoundRelation, tuple[Token, ...]], ...]
+    relation_rows: tuple[int, ...]
+    rows: frozenset[int]
+    """Every row a token of the chain came from."""
+
+
+@dataclass(frozen=True, slots=True)
+class DraftError:
+    """A chain that cannot be formed (a relation with nothing on one side)."""
+
+    message: str
+    span: Span
+
+
+def drop_transparent(tokens: Sequence[Token]) -> list[Token]:
+    """Drop ``\\begin``/``\\end`` of ``aligned``/``split``/``gathered`` (and the
+    ``{n}`` of ``alignedat``, the ``[t]`` of ``aligned[t]``): their rows are the display's."""
+    out: list[Token] = []
+    i, n = 0, len(tokens)
+    while i < n:
+        token = tokens[i]
+        if token.kind in (TokenKind.BEGIN, TokenKind.END) and token.text in TRANSPARENT_ENVIRONMENTS:
+            i += 1
+            if token.kind is TokenKind.BEGIN:
+                i = _skip_environment_arguments(tokens, i)
+            continue
+        out.append(token)
+        i += 1
+    return out
+
+
+def _skip_environment_arguments(tokens: Sequence[Token], i: int) -> int:
+    n = len(tokens)
+    if i + 2 < n and tokens[i].is_symbol("[") and tokens[i + 2].is_symbol("]") and not tokens[i].space_before:
+        i += 3
+    if i + 2 < n and tokens[i].kind is TokenKind.OPEN and tokens[i + 1].kind is TokenKind.NUMBER and tokens[i + 2].kind is TokenKind.CLOSE:
+        i += 3
+    return i
+
+
+def split_rows(tokens: Sequence[Token]) -> tuple[list[list[Token]], list[Token]]:
+    """Rows at depth-0 ``\\\\`` (braces, ``\\left…\\right``, environments count).
+
+    :returns: the rows (``\\\\`` excluded) and the ``\\\\`` tokens between them.
+    """
+    rows: list[list[Token]] = [[]]
+    breaks: list[Token] = []
+    for index, depth, _ in walk(tokens, rows=True):
+        token = tokens[index]
+        if token.kind is TokenKind.ROW_BREAK and depth == 0:
+            breaks.append(token)
+            rows.append([])
+        else:
+            rows[-1].append(token)
+    return rows, breaks
+
+
+def units(tokens: Sequence[Token]) -> list[tuple[int, int, str]]:
+    """Cut tokens into ``(start, length, category)`` units: spacing and numbering
+    (``SPACE``), annotations ``\\text{…}`` and ``(\\text{…})`` (``NOTE``), chain
+    separators (``SEPARATOR``), ``, . ;`` (``PUNCT``), anything else (``OTHER``, one token)."""
+    result: list[tuple[int, int, str]] = []
+    i, n = 0, len(tokens)
+    while i < n:
+        length, category = unit_at(tokens, i)
+        result.append((i, length, category))
+        i += length
+    return result
+
+
+def unit_at(tokens: Sequence[Token], i: int) -> tuple[int, str]:
+    """The unit that starts at token ``i``: its length and category (see :func:`units`)."""
+    token = tokens[i]
+    previous = tokens[i - 1] if i else None
+    after_script = previous is not None and previous.kind in (TokenKind.SUB, TokenKind.SUP)
+    after_delimiter_taker = previous is not None and previous.kind is TokenKind.COMMAND and previous.text in DELIMITER_TAKERS
+    if token.kind is TokenKind.COMMENT:
+        return 1, SPACE
+    if token.kind is TokenKind.COMMAND and not after_script:
+        return _command_unit(tokens, i)
+    if token.is_symbol("(") and not after_delimiter_taker:
+        inner = _annotation_length(tokens, i + 1)
+        if inner and i + 1 + inner < len(tokens) and tokens[i + 1 + inner].is_symbol(")"):
+            return inner + 2, NOTE
+    if token.kind is TokenKind.SYMBOL and token.text in TRAILING_PUNCTUATION and not after_delimiter_taker:
+        return 1, PUNCT
+    return 1, OTHER
+
+
+def _annotation_length(tokens: Sequence[Token], i: int) -> int:
+    if i < len(tokens) and tokens[i].kind is TokenKind.COMMAND and tokens[i].text in ANNOTATIONS:
+        return 2 if i + 1 < len(tokens) and tokens[i + 1].kind is TokenKind.TEXT else 1
+    return 0
+
+
+def _command_unit(tokens: Sequence[Token], i: int) -> tuple[int, str]:
+    text = tokens[i].text
+    n = len(tokens)
+    if text in SEPARATORS:
+        return 1, SEPARATOR
+    if text in DROPPED:
+        return 1, SPACE
+    if text in ANNOTATIONS:
+        return _annotation_length(tokens, i), NOTE
+    if text in DROPPED_WITH_TEXT:
+        j = i + 1
+        if j < n and tokens[j].is_symbol("*"):
+            j += 1
+        if j < n and tokens[j].kind is TokenKind.TEXT:
+            j += 1
+        return j - i, SPACE
+    if text in DROPPED_WITH_GROUP:
+        j = i + 1
+        if j < n and tokens[j].is_symbol("*"):
+            j += 1
+        return _group_end(tokens, j) - i, SPACE
+    return 1, OTHER
+
+
+def _group_end(tokens: Sequence[Token], j: int) -> int:
+    if j >= len(tokens) or tokens[j].kind is not TokenKind.OPEN:
+        return j
+    depth = 0
+    for k in range(j, len(tokens)):
+        depth += 1 if tokens[k].kind is TokenKind.OPEN else -1 if tokens[k].kind is TokenKind.CLOSE else 0
+        if depth == 0:
+            return k + 1
+    return len(tokens)
+
+
+def is_no_sum(tokens: Sequence[Token]) -> bool:
+    """Whether an annotation unit says ``no sum`` / ``no summation``."""
+    for token in tokens:
+        if token.kind is TokenKind.TEXT:
+            words = " ".join(re.sub(r"[^\w\s]", " ", token.text.lower()).split())
+            if _NO_SUM.match(words):
+                return True
+    return False
+
+
+@dataclass(frozen=True, slots=True)
+class CleanRow:
+    """A row with alignment marks and comments dropped and its ends trimmed of
+    annotations, spacing and trailing punctuation."""
+
+    tokens: tuple[Token, ...]
+    no_sum: bool
+
+
+def clean_row(row: Sequence[Token]) -> CleanRow:
+    """Trim a row's leading and trailing annotations (SPEC §3: "an annotation at the end
+    of a row is dropped"); note a ``\\text{(no sum)}`` anywhere in it."""
+    tokens = [t for t in row if t.kind not in (TokenKind.ALIGN, TokenKind.COMMENT)]
+    cut = units(tokens)
+    no_sum = any(cat == NOTE and is_no_sum(tokens[s : s + n]) for s, n, cat in cut)
+    first, last = 0, len(cut)
+    while first < last and cut[first][2] in (SPACE, NOTE, SEPARATOR):
+        first += 1
+    while last > first and cut[last - 1][2] in (SPACE, NOTE, SEPARATOR, PUNCT):
+        last -= 1
+    if first >= last:
+        return CleanRow((), no_sum)
+    start, end = cut[first][0], cut[last - 1][0] + cut[last - 1][1]
+    return CleanRow(tuple(tokens[start:end]), no_sum)
+
+
+def continues(tokens: Sequence[Token]) -> bool:
+    """Whether a cleaned row continues the previous one (it starts with a relation or
+    with ``+ - \\cdot \\times``)."""
+    if not tokens:
+        return False
+    first = tokens[0]
+    if first.kind is TokenKind.SYMBOL and first.text in CONTINUATION_SYMBOLS:
+        return True
+    if first.kind is TokenKind.COMMAND and first.text in CONTINUATION_COMMANDS:
+        return True
+    return relation_at(tokens, 0) is not None
+
+
+def logical_lines(rows: Sequence[CleanRow], join_all: bool = False) -> list[list[Placed]]:
+    """Join continued rows: each result is one run of text that chains are cut from."""
+    lines: list[list[Placed]] = []
+    for index, row in enumerate(rows):
+        if not row.tokens:
+            continue
+        placed = [Placed(t, index) for t in row.tokens]
+        if lines and (join_all or continues(row.tokens)):
+            lines[-1].extend(placed)
+        else:
+            lines.append(placed)
+    return lines
+
+
+def chains_of_line(line: Sequence[Placed], source: SourceText) -> list[ChainDraft | DraftError]:
+    """Cut one logical line into chains at depth-0 separators and into sides at depth-0
+    relations.  A separator where no expression has started (just after a relation or
+    at the start) is dropped, as are spacing, ``\\label``, ``\\tag`` and comments."""
+    tokens = [p.token for p in line]
+    info = list(walk(tokens))
+    drafts: list[ChainDraft | DraftError] = []
+    sides: list[list[int]] = [[]]
+    relations: list[tuple[FoundRelation, int]] = []
+    i, n = 0, len(tokens)
+    while i < n:
+        _, depth, delimiter = info[i]
+        if depth == 0 and not delimiter:
+            found = relation_at(tokens, i)
+            if found is not None:
+                relations.append((found, i))
+                sides.append([])
+                i += found.length
+                continue
+            length = _separator_length(tokens, i)
+            if length:
+                if sides[-1]:
+                    drafts.extend(_finish(line, sides, relations, source))
+                    sides, relations = [[]], []
+                i += length
+                continue
+        length, category = unit_at(tokens, i)
+        if category == SPACE:
+            i += length
+            continue
+        sides[-1].extend(range(i, i + length))
+        i += length
+    drafts.extend(_finish(line, sides, relations, source))
+    return drafts
+
+
+def _separator_length(tokens: Sequence[Token], i: int) -> int:
+    """Tokens of a chain separator at ``i`` (SPEC §3), or 0."""
+    token = tokens[i]
+    if token.kind is TokenKind.SYMBOL and token.text in (",", ";"):
+        nxt = tokens[i + 1] if i + 1 < len(tokens) else None
+        if nxt is not None and (nxt.space_before or (nxt.kind is TokenKind.COMMAND and nxt.text in _SPACING_AFTER_COMMA)):
+            return 1
+        return 0
+    length, category = unit_at(tokens, i)
+    return length if category in (SEPARATOR, NOTE) else 0
+
+
+def _finish(
+    line: Sequence[Placed], sides: list[list[int]], relations: list[tuple[FoundRelation, int]], source: SourceText
+) -> list[ChainDraft | DraftError]:
+    if not relations:
+        return []
+    tokens = [p.token for p in line]
+    trimmed = [_trim_punctuation(tokens, side) for side in sides]
+    for k, side in enumerate(trimmed):
+        if not side:
+            found, at = relations[0] if k == 0 else relations[k - 1]
+            relation = tokens[at : at + found.length]
+            where = "left" if k == 0 else "right"
+            message = f"the relation '{relation_text(relation, source)}' has nothing on its {where}"
+            return [DraftError(message, span_of(relation))]
+    rows = frozenset(line[i].row for side in trimmed for i in side) | frozenset(line[at].row for _, at in relations)
+    return [
+        ChainDraft(
+            sides=tuple(tuple(tokens[i] for i in side) for side in trimmed),
+            relations=tuple((found, tuple(tokens[at : at + found.length])) for found, at in relations),
+            relation_rows=tuple(line[at].row for _, at in relations),
+            rows=rows,
+        )
+    ]
+
+
+def _trim_punctuation(tokens: Sequence[Token], side: list[int]) -> list[int]:
+    while side:
+        last = tokens[side[-1]]
+        before = tokens[side[-2]] if len(side) > 1 else None
+        taker = before is not None and before.kind is TokenKind.COMMAND and before.text in DELIMITER_TAKERS
+        if last.kind is TokenKind.SYMBOL and last.text in TRAILING_PUNCTUATION and not taker:
+            side = side[:-1]
+        else:
+            break
+    return side
+
+
+def relation_text(tokens: Sequence[Token], source: SourceText) -> str:
+    """A relation as written: the file's text, or rebuilt LaTeX inside an expanded macro."""
+    spans = [t.span for t in tokens]
+    in_order = all(a.end <= b.start for a, b in zip(spans, spans[1:]))
+    text = source.text[spans[0].start : spans[-1].end]
+    if in_order and text.startswith(tokens[0].text):
+        return text
+    return tokens_latex(tokens)

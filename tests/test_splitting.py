@@ -1,0 +1,207 @@
+"""Chains and steps (SPEC §3): where each step is reported, line and column.
+
+Every expected position below was counted by hand from the snippet (1-based, characters).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from documents_support import step_lines, structure, unreadable_lines
+from stepcheck.verdicts import RelationKind
+
+# (id, LaTeX document, expected steps "path:line:col chain.step lhs REL rhs")
+TEX_CASES = [
+    (
+        "chain-over-rows-with-&=",
+        "\\begin{align}\n"
+        "  L(\\mathbf{w}) &= \\frac{1}{2}\\|\\mathbf{y} - X\\mathbf{w}\\|^2 \\\\\n"
+        "                &= \\frac{1}{2} r^\\top r\n"
+        "\\end{align}\n",
+        [
+            "doc.tex:2:20 1.1 L(\\mathbf{w}) = \\frac{1}{2}\\|\\mathbf{y} - X\\mathbf{w}\\|^2",
+            "doc.tex:3:20 1.2 \\frac{1}{2}\\|\\mathbf{y} - X\\mathbf{w}\\|^2 = \\frac{1}{2} r^\\top r",
+        ],
+    ),
+    (
+        "two-relations-on-one-row",
+        "\\[ a = b + c = d \\]\n",
+        ["doc.tex:1:8 1.1 a = b + c", "doc.tex:1:16 1.2 b + c = d"],
+    ),
+    (
+        "relation-inside-frac-not-split",
+        "\\[ r = \\frac{a = b}{c} \\]\n",
+        ["doc.tex:1:8 1.1 r = \\frac{a = b}{c}"],
+    ),
+    (
+        "relations-inside-brackets-not-split",
+        "\\[ f(x, y) = \\langle u, v \\rangle = \\left[ p < q \\right] \\]\n",
+        ["doc.tex:1:14 1.1 f(x, y) = \\langle u, v \\rangle", "doc.tex:1:37 1.2 \\langle u, v \\rangle = \\left[ p < q \\right]"],
+    ),
+    (
+        "left-paren-right-side-reported-at-left",
+        "\\begin{equation}\n  s = \\left( a + b \\right)^2\n\\end{equation}\n",
+        ["doc.tex:2:7 1.1 s = \\left( a + b \\right)^2"],
+    ),
+    (
+        "bigl-right-side-reported-at-bigl",
+        "\\[ s = \\bigl( a + b \\bigr)^2 \\]\n",
+        ["doc.tex:1:8 1.1 s = \\bigl( a + b \\bigr)^2"],
+    ),
+    (
+        "macro-with-two-arguments-reported-at-call",
+        "\\newcommand{\\pd}[2]{\\frac{\\partial #1}{\\partial #2}}\n"
+        "\\begin{align}\n"
+        "  a &= b \\\\\n"
+        "    &= \\pd{f}{x}\n"
+        "\\end{align}\n",
+        ["doc.tex:3:8 1.1 a = b", "doc.tex:4:8 1.2 b = \\pd{f}{x}"],
+    ),
+    (
+        "macro-whose-body-starts-with-an-argument",
+        "\\newcommand{\\sq}[2]{#1^{#2}}\n\\[ y = \\sq{x}{2} \\]\n",
+        ["doc.tex:2:8 1.1 y = \\sq{x}{2}"],
+    ),
+    (
+        "row-starting-with-operator-continues-expression",
+        "\\begin{align}\n  f &= a + b \\\\\n    &\\quad + c = d\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 f = a + b \\\\\n    &\\quad + c", "doc.tex:3:18 1.2 a + b \\\\\n    &\\quad + c = d"],
+    ),
+    (
+        "separators-split-chains",
+        "\\[ r = \\frac{a}{b} \\quad\\text{so}\\quad rb = a \\implies x = y, \\; u = v \\]\n",
+        ["doc.tex:1:8 1.1 r = \\frac{a}{b}", "doc.tex:1:45 2.1 rb = a", "doc.tex:1:60 3.1 x = y", "doc.tex:1:70 4.1 u = v"],
+    ),
+    (
+        "row-end-annotation-dropped-chain-continues",
+        "\\begin{align}\n  g &= h \\qquad \\text{(by (3))} \\\\\n    &= k.\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 g = h", "doc.tex:3:8 1.2 h = k"],
+    ),
+    (
+        "gather-rows-are-independent-chains",
+        "\\begin{gather*}\n  a = b \\\\\n  c = d\n\\end{gather*}\n",
+        ["doc.tex:2:7 1.1 a = b", "doc.tex:3:7 2.1 c = d"],
+    ),
+    (
+        "multline-rows-join",
+        "\\begin{multline}\n  p = q + r \\\\\n  s + t\n\\end{multline}\n",
+        ["doc.tex:2:7 1.1 p = q + r \\\\\n  s + t"],
+    ),
+    (
+        "split-inside-equation-and-label-dropped",
+        "\\begin{equation}\\label{eq:x}\n\\begin{split}\n  m &= n \\\\\n    &= o \\nonumber\n\\end{split}\n\\end{equation}\n",
+        ["doc.tex:3:8 1.1 m = n", "doc.tex:4:8 1.2 n = o"],
+    ),
+    (
+        "matrix-rows-are-not-display-rows",
+        "\\[ M = \\begin{pmatrix} 1 & 2 \\\\ 3 & 4 \\end{pmatrix} \\]\n",
+        ["doc.tex:1:8 1.1 M = \\begin{pmatrix} 1 & 2 \\\\ 3 & 4 \\end{pmatrix}"],
+    ),
+    (
+        "chains-numbered-across-displays",
+        "\\[ a = b \\]\ntext\n$$ c = d $$\n",
+        ["doc.tex:1:8 1.1 a = b", "doc.tex:3:8 2.1 c = d"],
+    ),
+    (
+        "eqnarray-ampersands-dropped",
+        "\\begin{eqnarray}\n  x &=& y \\\\\n    &=& z\n\\end{eqnarray}\n",
+        ["doc.tex:2:9 1.1 x = y", "doc.tex:3:9 1.2 y = z"],
+    ),
+]
+
+
+@pytest.mark.parametrize("text, expected", [c[1:] for c in TEX_CASES], ids=[c[0] for c in TEX_CASES])
+def test_tex_step_positions(text: str, expected: list[str]) -> None:
+    assert step_lines(structure(text)) == expected
+
+
+RELATION_CASES = [
+    ("=", "=", RelationKind.EQUAL, None),
+    (":=", ":=", RelationKind.DEFINE, None),
+    ("\\coloneqq", "\\coloneqq", RelationKind.DEFINE, None),
+    ("\\eqqcolon", "\\eqqcolon", RelationKind.DEFINE, None),
+    ("\\triangleq", "\\triangleq", RelationKind.DEFINE, None),
+    ("\\stackrel{\\text{def}}{=}", "\\stackrel{\\text{def}}{=}", RelationKind.DEFINE, None),
+    ("\\overset{\\mathrm{definition}}{=}", "\\overset{\\mathrm{definition}}{=}", RelationKind.DEFINE, None),
+    ("\\overset{\\Delta}{=}", "\\overset{\\Delta}{=}", RelationKind.DEFINE, None),
+    ("\\overset{\\text{(a)}}{=}", "\\overset{\\text{(a)}}{=}", RelationKind.EQUAL, "(a)"),
+    ("\\stackrel{(b)}{=}", "\\stackrel{(b)}{=}", RelationKind.EQUAL, "(b)"),
+    ("\\equiv", "\\equiv", RelationKind.EQUIV, None),
+    ("\\neq", "\\neq", RelationKind.NOT_EQUAL, None),
+    ("\\ne", "\\ne", RelationKind.NOT_EQUAL, None),
+    ("<", "<", RelationKind.ORDER, None),
+    (">", ">", RelationKind.ORDER, None),
+    ("\\le", "\\le", RelationKind.ORDER, None),
+    ("\\leq", "\\leq", RelationKind.ORDER, None),
+    ("\\leqslant", "\\leqslant", RelationKind.ORDER, None),
+    ("\\ge", "\\ge", RelationKind.ORDER, None),
+    ("\\geq", "\\geq", RelationKind.ORDER, None),
+    ("\\geqslant", "\\geqslant", RelationKind.ORDER, None),
+    ("\\preceq", "\\preceq", RelationKind.LOEWNER, None),
+    ("\\succeq", "\\succeq", RelationKind.LOEWNER, None),
+    ("\\prec", "\\prec", RelationKind.LOEWNER, None),
+    ("\\succ", "\\succ", RelationKind.LOEWNER, None),
+    ("\\approx", "\\approx", RelationKind.APPROX, None),
+    ("\\simeq", "\\simeq", RelationKind.APPROX, None),
+    ("\\sim", "\\sim", RelationKind.APPROX, None),
+    ("\\propto", "\\propto", RelationKind.APPROX, None),
+]
+
+
+@pytest.mark.parametrize("written, text, kind, mark", RELATION_CASES, ids=[c[0] for c in RELATION_CASES])
+def test_relation_table(written: str, text: str, kind: RelationKind, mark: str | None) -> None:
+    s = structure(f"\\[ A {written} B \\]\n")
+    (chain,) = s.chains
+    (relation,) = chain.relations
+    assert (relation.kind, relation.text, relation.mark) == (kind, text, mark)
+    assert [side.latex(chain.source) for side in chain.sides] == ["A", "B"]
+    # "\\[ A " puts the relation at column 6; the right side starts one space after it.
+    assert chain.source.position(chain.sides[1].span.start).column == 6 + len(written) + 1
+
+
+def test_no_sum_annotation_marks_the_chain() -> None:
+    s = structure(
+        "\\begin{align}\n  c_i &= a_i b_i \\quad \\text{(no sum)} \\\\\n  d &= e_k e_k\n\\end{align}\n"
+    )
+    assert [(c.number, c.no_sum) for c in s.chains] == [(1, True), (2, False)]
+
+
+def test_rows_keep_every_display_row_without_ampersands() -> None:
+    s = structure("\\begin{align}\n  X &\\in \\mathbb{R}^{n \\times d} \\\\\n  y &= X w\n\\end{align}\n")
+    rows = [" ".join(t.text for t in row.tokens) for row in s.rows]
+    assert rows == ["X \\in \\mathbb { R } ^ { n \\times d }", "y = X w"]
+    assert [row.inline for row in s.rows] == [False, False]
+
+
+def test_inline_math_gives_rows_and_unnumbered_inline_chains() -> None:
+    s = structure("where $b_i = y_i - X_{ik} w_k$ and $q := A\\mathbf{w}$, with $d = 3$.\n")
+    assert s.chains == ()
+    assert [(c.number, [side.latex(c.source) for side in c.sides]) for c in s.inline_chains] == [
+        (0, ["b_i", "y_i - X_{ik} w_k"]),
+        (0, ["q", "A\\mathbf{w}"]),
+        (0, ["d", "3"]),
+    ]
+    assert all(row.inline for row in s.rows) and len(s.rows) == 3
+
+
+def test_inline_relation_alone_is_not_an_error() -> None:
+    s = structure("The relation $=$ and the order $<$ are symbols here.\n")
+    assert s.inline_chains == () and s.unreadable == ()
+
+
+def test_dangling_relation_in_display_is_a_parse_error_at_the_relation() -> None:
+    s = structure("\\begin{align}\n  &= b\n\\end{align}\n")
+    assert s.chains == ()
+    assert unreadable_lines(s) == ["doc.tex:2:4 1: the relation '=' has nothing on its left"]
+
+
+def test_side_spans_run_from_first_to_last_token() -> None:
+    s = structure("\\[ u = v + w \\]")
+    (chain,) = s.chains
+    assert [chain.source.slice(side.span) for side in chain.sides] == ["u", "v + w"]
+    assert chain.source.slice(chain.relations[0].span) == "="
+
+
+def test_chain_order_is_the_block_document_order() -> None:
+    s = structure("$a$ then \\[ p = q \\] then \\[ r = t \\]\n")
+    assert [c.order for c in s.chains] == [1, 2]
