@@ -498,3 +498,19 @@ def _explain_ready() -> bool:
 def test_explain_math_end_to_end(run_cli):
     result = run_cli("explain", "--math", r"W_{ij} x_j")
     assert result.stdout.strip()
+
+
+def _explain_line_ready() -> bool:
+    try:
+        from stepcheck.explain import explain_line  # noqa: F401
+    except ImportError:
+        return False
+    return True
+
+
+@pytest.mark.xfail(not (_explain_line_ready() and STAGES), strict=True,
+                   reason="stepcheck.explain.explain_line (integrator) is not written yet")
+def test_explain_line_end_to_end(run_cli, work):
+    (work / "exchanger.tex").write_text(GRADIENT_DOC, encoding="utf-8")
+    result = run_cli("explain", "exchanger.tex:4")
+    assert result.stdout.strip()
