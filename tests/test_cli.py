@@ -363,11 +363,11 @@ def test_explain_math(run_cli, explainer):
 
 
 def test_explain_line_with_config_and_layout(run_cli, explainer, work):
-    (work / "stepcheck.toml").write_text("seed = 8\n", encoding="utf-8")
+    (work / "stepcheck.toml").write_text('seed = 8\nlayout = "denominator"\n', encoding="utf-8")
     assert run_cli("explain", f"{DOC}:1").stdout == f"{DOC}:1 read as …\n"
-    assert explainer["line"] == (DOC, 1, Settings(seed=8))
-    run_cli("explain", f"{DOC}:1", "--layout", "denominator")
-    assert explainer["line"][2] == Settings(seed=8, layout=Layout.DENOMINATOR)
+    assert explainer["line"] == (DOC, 1, Settings(seed=8, layout=Layout.DENOMINATOR))
+    run_cli("explain", f"{DOC}:1", "--layout", "numerator")
+    assert explainer["line"][2] == Settings(seed=8, layout=Layout.NUMERATOR)
 
 
 @pytest.mark.parametrize("args, fragment", [

@@ -9,6 +9,7 @@ place where the project's errors become exit status 2 and a one-line message.
 
 from __future__ import annotations
 
+import dataclasses
 import importlib
 import io
 import logging
@@ -24,6 +25,7 @@ from click.core import ParameterSource
 from . import __version__
 from .config import FileConfig, RunConfig, find_config, load_config, resolve
 from .reporters import DEFAULT_FORMAT, REPORTERS
+from .results import Report
 from .settings import Settings
 from .source import SourceError
 
@@ -147,8 +149,8 @@ _config_option = click.option(
     metavar="FILE", help="Configuration file (default: stepcheck.toml or pyproject.toml found upward).",
 )
 _layout_option = click.option(
-    "--layout", type=click.Choice(["numerator", "denominator"]),
-    help="Derivative layout before any layout directive  [default: numerator].",
+    "--layout", type=click.Choice(["numerator", "denominator"]), default=_DEFAULTS.layout.value,
+    show_default=True, help="Derivative layout before any layout directive.",
 )
 
 
@@ -201,9 +203,7 @@ def check(ctx: click.Context, paths: tuple[str, ...], output: pathlib.Path | Non
 
 
 def _without_cache(settings: Settings) -> Settings:
-    from dataclasses import replace
-
-    return replace(settings, cache=False)
+    return dataclasses.replace(settings, cache=False)
 
 
 def run_config(ctx: click.Context, paths: Sequence[str], config_file: pathlib.Path | None) -> RunConfig:
@@ -243,7 +243,7 @@ def refuse_input(output: pathlib.Path, inputs: Sequence[str], config: pathlib.Pa
         raise ToolError(f"{output}: refusing to write the report over the configuration file")
 
 
-def write_report(report: Any, format_name: str, output: pathlib.Path | None, verbose: bool) -> None:
+def write_report(report: Report, format_name: str, output: pathlib.Path | None, verbose: bool) -> None:
     """Write the report to standard output, or whole to ``output``.
 
     :raises ToolError: the output file cannot be written.
@@ -271,18 +271,15 @@ def write_report(report: Any, format_name: str, output: pathlib.Path | None, ver
 @_debug_option
 @click.pass_context
 def explain(ctx: click.Context, target: FileLine | None, math_text: str | None,
-            config_file: pathlib.Path | None, layout: str | None) -> None:
+            config_file: pathlib.Path | None, **_: Any) -> None:
     """Show how FILE:LINE (or a --math snippet) is read: tree, indices, shapes, sympy form."""
     if (target is None) == (math_text is None):
         raise click.UsageError("give either FILE:LINE or --math 'LATEX', not both and not neither")
-    overrides = {"layout": layout} if layout is not None else {}
     if math_text is not None:
         text = _explainer("explain_math")(math_text)
     else:
         assert target is not None
-        found = config_file if config_file is not None else find_config(pathlib.Path(target.path))
-        file = load_config(found) if found is not None else FileConfig()
-        settings = resolve(file, overrides).settings
+        settings = run_config(ctx, [target.path], config_file).settings
         text = _explainer("explain_line")(target.path, target.line, settings)
     click.echo(text.rstrip("\n"))
 
