@@ -299,3 +299,32 @@ def test_real_run_matches_every_schema(real_report, report_validator, sarif_vali
     junit_schema.validate(render("junit", real_report))
     for name in ("text", "github", "markdown", "html"):
         assert render(name, real_report)
+
+
+# --- any text at all still validates (hypothesis) ----------------------------------------------
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from stepcheck.results import FileNote, FileReport, Outcome, StepResult  # noqa: E402
+
+_ANY = st.text(max_size=25)
+
+
+@st.composite
+def awkward_reports(draw) -> Report:
+    path = draw(st.text(st.characters(blacklist_categories=("Cs",)), min_size=1, max_size=15))
+    steps = tuple(
+        StepResult(path, draw(st.integers(1, 500)), draw(st.integers(1, 80)), n, 1, draw(_ANY), draw(_ANY),
+                   draw(_ANY), Outcome(verdict, message=draw(_ANY), hint=draw(st.none() | _ANY)))
+        for n, verdict in enumerate(draw(st.lists(st.sampled_from(list(Verdict)), max_size=4)), start=1)
+    )
+    notes = tuple(FileNote(1, 1, m) for m in draw(st.lists(_ANY.filter(bool), max_size=2)))
+    return Report(seed=draw(st.integers(0, 10**9)), files=(FileReport(path, steps, notes),), strict=draw(st.booleans()))
+
+
+@settings(max_examples=25, deadline=None)
+@given(report=awkward_reports())
+def test_any_text_still_validates(report, sarif_validator, junit_schema):
+    junit_schema.validate(render("junit", report))
+    assert errors(sarif_validator, json.loads(render("sarif", report))) == []

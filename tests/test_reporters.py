@@ -187,7 +187,7 @@ ANNOTATION = re.compile(r"^::(?P<cmd>error|warning|notice) (?P<props>[^:]*)::(?P
 
 def parse_annotations(text: str) -> list[dict[str, Any]]:
     found = []
-    for line in text.splitlines():
+    for line in text.split("\n"):
         match = ANNOTATION.match(line)
         if match:
             props = dict(p.split("=", 1) for p in match["props"].split(","))
@@ -321,3 +321,48 @@ def test_holds_without_message_shows_its_method(step_factory):
     step = step_factory("a.tex", 1, 1, Verdict.HOLDS, method=Method.EXACT_SAMPLE)
     report = Report(seed=0, files=(FileReport("a.tex", (step,)),))
     assert "a.tex:1:1: holds: by exact-sample" in render("text", report, verbose=True)
+
+
+# --- any text at all: every format stays well-formed (hypothesis) ----------------------------
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_PATHS = st.text(st.characters(blacklist_categories=("Cs", "Cc", "Zl", "Zp")), min_size=1, max_size=20)
+_TEXT = st.text(max_size=30)
+
+
+@st.composite
+def one_step_reports(draw) -> Report:
+    from stepcheck.results import Outcome, StepResult
+
+    path = draw(_PATHS)
+    verdict = draw(st.sampled_from([v for v in Verdict if v not in (Verdict.HOLDS, Verdict.DEFINES)]))
+    outcome = Outcome(verdict, message=draw(_TEXT), hint=draw(st.none() | _TEXT))
+    step = StepResult(path, draw(st.integers(1, 9999)), draw(st.integers(1, 999)), 1, 1,
+                      draw(st.sampled_from(["=", r"\le", ":="])), draw(_TEXT), draw(_TEXT), outcome)
+    return Report(seed=draw(st.integers(0, 2**32)), files=(FileReport(path, (step,)),), strict=draw(st.booleans()))
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(report=one_step_reports())
+def test_any_text_keeps_every_format_well_formed(report):
+    import json
+    import xml.etree.ElementTree as ET
+
+    step = report.steps()[0]
+    assert json.loads(render("json", report)) == report.to_dict()
+    ET.fromstring(render("junit", report))
+    ET.fromstring(render("html", report))
+    sarif = json.loads(render("sarif", report))
+    assert len(sarif["runs"][0]["results"]) == (step.verdict is not Verdict.SKIPPED)
+    github = render("github", report).rstrip("\n").split("\n")  # the runner splits at LF and CR only
+    assert not any("\r" in line for line in github)
+    assert len(github) == 1 + (step.verdict is not Verdict.SKIPPED)
+    if step.verdict is not Verdict.SKIPPED:
+        annotation = parse_annotations(github[0])[0]
+        assert annotation["msg"].startswith(step.outcome.message or step.verdict.value)
+    text = render("text", report).splitlines()
+    assert [line for line in text if not line.startswith(" ")][-1].startswith("stepcheck: 1 file, 1 step")
+    _, table = _tables(render("markdown", report))
+    assert len(table) == 2 and len(table[1]) == 4
