@@ -1,13 +1,95 @@
-"""The math reader: one side's tokens → an expression tree (SPEC §7, §8)."""
+"""The math reader: one side's tokens → an expression tree (SPEC §7, §8).
+
+A recursive-descent reader with precedence levels over the flat token stream of
+:mod:`.tokens`.  The grammar, loosest first (each method's docstring repeats its rule)::
+
+    expression    := term (('+' | '-') term)*
+    term          := ('+' | '-')* product
+    product       := juxtaposition (op operand)*     op: \\cdot (loosest) | \\times \\odot \\circ \\otimes
+    juxtaposition := factor (factor | '/' factor)*   left to right
+    factor        := symbol | primary scripts
+    primary       := number | group | delimited | fraction | root | sum | derivative
+                   | gradient | function call | matrix
+
+Symbols and scripts live in :mod:`._symbols`, fractions, derivatives and sums in
+:mod:`._calculus`.  Every reading the text leaves open is decided by a rule of
+:data:`.vocabulary.AMBIGUITY_RULES`; the reader records each one it meets (see
+:func:`read_side`), which ``explain`` shows.
+"""
 
 from __future__ import annotations
 
-from typing import Sequence
+import dataclasses
+import logging
+import sys
+from contextlib import contextmanager
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Callable, Iterator, Sequence, TypeVar
 
 from ..context.model import Vocabulary
-from ..source import SourceText
+from ..source import SourceError, SourceText, Span
+from . import nodes as n
+from ._calculus import CalculusReading
+from ._stream import Reading, Stream, describe
+from ._symbols import Base, FunctionName, SymbolBuilding, SymbolReading
+from .errors import ParseError
 from .nodes import Node
-from .tokens import Token
+from .tokens import Token, TokenKind, tokenize
+from .vocabulary import (
+    AMBIGUITY_RULES,
+    BAR_KIND,
+    BARS,
+    BIG_OPERATORS,
+    CLOSERS,
+    DELIMITERS,
+    DUAL_FUNCTION_COMMANDS,
+    FRACTIONS,
+    FUNCTION_COMMANDS,
+    FUSED_FUNCTIONS,
+    MATRIX_ENVIRONMENTS,
+    NORM_KINDS,
+    OPERATOR_NAMES,
+    PRODUCT_OPERATORS,
+    RELATION_TEXTS,
+    SLASH_OPERATORS,
+    UNSUPPORTED,
+)
+
+logger = logging.getLogger(__name__)
+
+T = TypeVar("T")
+
+#: Deepest nesting of expressions read; deeper input is a ParseError.
+MAX_DEPTH = 100
+#: Longest side read, in tokens; longer input is a ParseError.
+MAX_TOKENS = 5000
+#: Python frames one nesting level may use (for the recursion room the reader asks for).
+_FRAMES_PER_LEVEL = 12
+#: When True, an unexpected internal error propagates (tests); else it becomes a ParseError.
+STRICT = False
+
+_PRODUCT_NODES: dict[str, type[Node]] = {"Dot": n.Dot, "Cross": n.Cross, "Hadamard": n.Hadamard, "Kron": n.Kron}
+
+#: Primary commands → the reader method that reads them.
+_COMMAND_READERS: dict[str, str] = {
+    **{name: "fraction" for name in FRACTIONS},
+    **{name: "bigop" for name in BIG_OPERATORS},
+    "\\sqrt": "root",
+    "\\partial": "partial",
+    "\\nabla": "gradient",
+    "\\operatorname": "operatorname",
+    "\\operatornamewithlimits": "operatorname",
+    **{name: "function_command" for name in FUNCTION_COMMANDS},
+}
+
+
+@dataclass(frozen=True, slots=True)
+class SideReading:
+    """A side's tree and the ambiguity readings met while reading it."""
+
+    node: Node
+    readings: tuple[Reading, ...]
 
 
 def parse_side(tokens: Sequence[Token], vocabulary: Vocabulary, source: SourceText | None = None) -> Node:
@@ -17,10 +99,688 @@ def parse_side(tokens: Sequence[Token], vocabulary: Vocabulary, source: SourceTe
     :param vocabulary: names the document declared (functions, labels, dimensions …).
     :param source: for error positions.
     :raises ParseError: the side cannot be read.
+    :returns: the side's expression tree.
     """
-    raise NotImplementedError  # parser helper
+    return read_side(tokens, vocabulary, source).node
+
+
+def read_side(tokens: Sequence[Token], vocabulary: Vocabulary, source: SourceText | None = None) -> SideReading:
+    """Read one side and report the ambiguity readings chosen (for ``explain``).
+
+    :raises ParseError: the side cannot be read.
+    """
+    if len(tokens) > MAX_TOKENS:
+        span = tokens[0].span.join(tokens[-1].span)
+        raise ParseError(f"the expression is too long to read ({len(tokens)} tokens; the limit is {MAX_TOKENS})", source, span)
+    try:
+        with _recursion_room(MAX_DEPTH * _FRAMES_PER_LEVEL):
+            reader = Reader(tokens, vocabulary, source)
+            node = reader.read()
+    except ParseError:
+        raise
+    except RecursionError as exc:
+        span = tokens[0].span if tokens else Span(0, 0)
+        raise ParseError("the expression nests too deeply to read", source, span) from exc
+    except Exception as exc:  # leniency for users, strictness under test (STYLE "Diagnostics")
+        if STRICT:
+            raise
+        logger.exception("internal error while reading math")
+        span = tokens[0].span.join(tokens[-1].span) if tokens else Span(0, 0)
+        raise ParseError(f"the expression could not be read (internal error: {exc!r})", source, span) from exc
+    return SideReading(node, tuple(reader.readings))
 
 
 def parse_latex(text: str, vocabulary: Vocabulary | None = None) -> Node:
-    """Tokenize and read a snippet (``explain --math``, tests).  Spans index ``text``."""
-    raise NotImplementedError  # parser helper
+    """Tokenize and read a snippet (``explain --math``, tests).  Spans index ``text``.
+
+    :raises ParseError: the snippet cannot be tokenized or read.
+    """
+    return read_latex(text, vocabulary).node
+
+
+def read_latex(text: str, vocabulary: Vocabulary | None = None) -> SideReading:
+    """:func:`parse_latex` with the readings chosen.
+
+    :raises ParseError: the snippet cannot be tokenized or read.
+    """
+    source = SourceText("<math>", text)
+    try:
+        tokens = tokenize(text, 0, source)
+    except SourceError as exc:
+        where = f" (at column {source.position(exc.span.start).column})" if exc.span is not None else ""
+        raise ParseError(exc.message + where, source, exc.span) from exc
+    except RecursionError as exc:
+        raise ParseError("the math nests too deeply to read", source, Span(0, min(1, len(text)))) from exc
+    except Exception as exc:  # pylatexenc on hostile input
+        if STRICT:
+            raise
+        raise ParseError(f"the math could not be tokenized ({exc})", source, Span(0, min(1, len(text)))) from exc
+    return read_side(tokens, vocabulary or Vocabulary(), source)
+
+
+@contextmanager
+def _recursion_room(frames: int) -> Iterator[None]:
+    """Make sure ``frames`` more Python frames fit (CPython 3.11 does not grow the C stack
+    for Python-to-Python calls); restore the limit afterwards."""
+    old = sys.getrecursionlimit()
+    depth = len(_stack_frames())
+    if old < depth + frames:
+        sys.setrecursionlimit(depth + frames)
+    try:
+        yield
+    finally:
+        sys.setrecursionlimit(old)
+
+
+def _stack_frames() -> list[object]:
+    frames = []
+    frame = sys._getframe(1)
+    while frame is not None:
+        frames.append(frame)
+        frame = frame.f_back  # type: ignore[assignment]
+    return frames
+
+
+class Reader(SymbolReading, SymbolBuilding, CalculusReading):
+    """Reads one side; see the module docstring for the grammar."""
+
+    def __init__(self, tokens: Sequence[Token], vocabulary: Vocabulary, source: SourceText | None):
+        self.s = Stream(tokens, source)
+        self.vocab = vocabulary
+        self.depth = 0
+        self.bold = 0
+        self.open_bar: str | None = None
+        """The kind of the innermost open bar (``abs``/``norm``), which a bar may close."""
+        self.readings: list[Reading] = []
+
+    # ----------------------------------------------------------------- plumbing
+
+    def read(self) -> Node:
+        """side := expression END"""
+        if self.s.at_end():
+            raise self.s.error("the expression is empty", self.s.end_span())
+        node = self.expression()
+        if not self.s.at_end():
+            raise self.s.unexpected(self.s.peek())
+        return node
+
+    def note(self, rule: str, span: Span, text: str) -> None:
+        """Record the reading chosen for an ambiguity (``rule`` is an AMBIGUITY_RULES id)."""
+        assert rule in AMBIGUITY_RULES, rule
+        self.readings.append(Reading(rule, span, text))
+
+    def enter(self, tok: Token | None) -> None:
+        """One nesting level deeper.
+
+        :raises ParseError: past :data:`MAX_DEPTH`.
+        """
+        if self.depth >= MAX_DEPTH:
+            span = tok.span if tok is not None else self.s.end_span()
+            raise self.s.error(f"the expression nests deeper than {MAX_DEPTH} levels at {self.s.where(span)}", span)
+        self.depth += 1
+
+    def leave(self) -> None:
+        self.depth -= 1
+
+    def region(self, a: int, b: int, read: Callable[[], T]) -> T:
+        """Run ``read`` on tokens ``[a, b)`` only, which it must use up; the cursor then
+        stands where it stood before."""
+        saved = (self.s.pos, self.s.limit, self.open_bar)
+        self.s.pos, self.s.limit, self.open_bar = a, b, None
+        try:
+            result = read()
+            if self.s.pos < b:
+                raise self.s.unexpected(self.s.peek())
+            return result
+        finally:
+            self.s.pos, self.s.limit, self.open_bar = saved
+
+    def attempt(self, read: Callable[[], T]) -> T | None:
+        """Run ``read``; on a ParseError put everything back and return None."""
+        saved = (self.s.pos, self.s.limit, self.open_bar, len(self.readings), self.bold)
+        try:
+            return read()
+        except ParseError:
+            self.s.pos, self.s.limit, self.open_bar, count, self.bold = saved
+            del self.readings[count:]
+            return None
+
+    # ----------------------------------------------------------------- sums and products
+
+    def expression(self) -> Node:
+        """expression := term (('+' | '-') term)*"""
+        self.enter(self.s.peek())
+        try:
+            start = self.s.pos
+            terms = [self.term()]
+            while (tok := self.s.peek()) is not None and tok.is_symbol("+", "-"):
+                at = self.s.pos
+                self.s.advance()
+                term = self.term()
+                terms.append(n.Neg(term, self.s.span_from(at)) if tok.text == "-" else term)
+            if len(terms) == 1:
+                return terms[0]
+            return n.Add(tuple(terms), self.s.span_from(start))
+        finally:
+            self.leave()
+
+    def term(self) -> Node:
+        """term := ('+' | '-')* product   (a sign covers the whole product: rule ``unary-minus``)"""
+        minus: list[int] = []
+        while (tok := self.s.peek()) is not None and tok.is_symbol("+", "-"):
+            if tok.text == "-":
+                minus.append(self.s.pos)
+            self.s.advance()
+        node = self.product()
+        for at in reversed(minus):
+            if isinstance(node, (n.Mul, n.Pow, n.Dot, n.Div)):
+                self.note("unary-minus", self.s.span_from(at), "the minus covers the whole product term")
+            node = n.Neg(node, self.s.span_from(at))
+        return node
+
+    def product(self) -> Node:
+        """product := juxtaposition (op operand)*, op ∈ \\cdot (level 1), \\times \\odot
+        \\circ \\otimes (level 2); level 2 binds tighter, each level left to right."""
+        items = [self.juxtaposition()]
+        ops: list[Token] = []
+        while (tok := self.s.peek()) is not None and tok.kind is TokenKind.COMMAND and tok.text in PRODUCT_OPERATORS:
+            self.s.advance()
+            ops.append(tok)
+            items.append(self.operand(tok))
+        if not ops:
+            return items[0]
+        return self._fold(items, ops)
+
+    def operand(self, op: Token) -> Node:
+        """operand := '-' operand | juxtaposition  (the right side of an explicit operator)"""
+        tok = self.s.peek()
+        if tok is not None and tok.is_symbol("-"):
+            at = self.s.pos
+            self.s.advance()
+            inner = self.operand(op)
+            return n.Neg(inner, self.s.span_from(at))
+        if tok is None or not self.starts_factor(tok, operand=True):
+            raise self.s.error(f"'{op.text}' at {self.s.where(op.span)} needs an operand after it", op.span)
+        return self.juxtaposition()
+
+    def _fold(self, items: list[Node], ops: list[Token]) -> Node:
+        levels = {PRODUCT_OPERATORS[op.text][1] for op in ops}
+        if len(levels) > 1 or any(isinstance(x, n.Mul) for x in items):
+            span = items[0].span.join(items[-1].span)
+            self.note("operator-precedence", span, "juxtaposition binds tighter than \\times/\\odot/\\otimes, which bind tighter than \\cdot")
+        tight: list[Node] = [items[0]]
+        loose_ops: list[Token] = []
+        for op, item in zip(ops, items[1:]):
+            kind, level = PRODUCT_OPERATORS[op.text]
+            if level == 2:
+                left = tight[-1]
+                tight[-1] = _PRODUCT_NODES[kind](left, item, left.span.join(item.span))  # type: ignore[call-arg]
+            else:
+                loose_ops.append(op)
+                tight.append(item)
+        node = tight[0]
+        for op, item in zip(loose_ops, tight[1:]):
+            kind = PRODUCT_OPERATORS[op.text][0]
+            node = _PRODUCT_NODES[kind](node, item, node.span.join(item.span))  # type: ignore[call-arg]
+        return node
+
+    def juxtaposition(self) -> Node:
+        """juxtaposition := factor (factor | ('/' | '\\div') factor)*, left to right
+        (rules ``juxtaposition``, ``slash``)."""
+        start = self.s.pos
+        factors = [self.factor()]
+        while (tok := self.s.peek()) is not None:
+            if tok.text in SLASH_OPERATORS and tok.kind in (TokenKind.SYMBOL, TokenKind.COMMAND):
+                left = factors[0] if len(factors) == 1 else n.Mul(tuple(factors), self.s.span_from(start))
+                self.s.advance()
+                right = self.factor()
+                factors = [n.Div(left, right, self.s.span_from(start))]
+                self.note("slash", factors[0].span, "division, left to right like a product")
+            elif self.starts_factor(tok):
+                previous = self.s.tokens[self.s.pos - 1]
+                if tok.kind is TokenKind.NUMBER and previous.kind is TokenKind.NUMBER:
+                    raise self.s.error(
+                        f"two numbers side by side at {self.s.where(tok.span)} ('{previous.text} {tok.text}') "
+                        "are not read: write \\cdot between them",
+                        tok.span,
+                    )
+                factors.append(self.factor())
+            else:
+                break
+        if len(factors) == 1:
+            return factors[0]
+        node = n.Mul(tuple(factors), self.s.span_from(start))
+        self.note("juxtaposition", node.span, f"product of {len(factors)} factors")
+        return node
+
+    def starts_factor(self, tok: Token, operand: bool = False) -> bool:
+        """Whether ``tok`` can begin another factor of a product (rule ``bars``: a bar
+        closes the innermost open bar of its kind unless an operand is required)."""
+        role = self.s.roles[self.s.pos] if self.s.peek() is tok else None
+        if role == "close":
+            return False
+        kind = tok.kind
+        if kind in (TokenKind.LETTER, TokenKind.NUMBER, TokenKind.OPEN, TokenKind.BEGIN, TokenKind.PARAM):
+            return True
+        if tok.text in BARS and kind in (TokenKind.SYMBOL, TokenKind.COMMAND):
+            return operand or role == "open" or BAR_KIND[tok.text] != self.open_bar
+        if kind is TokenKind.SYMBOL:
+            return tok.text in ("(", "[")
+        if kind is TokenKind.COMMAND:
+            return not (
+                tok.text in CLOSERS or tok.text in PRODUCT_OPERATORS or tok.text in RELATION_TEXTS
+                or tok.text in SLASH_OPERATORS
+            )
+        return False
+
+    # ----------------------------------------------------------------- factors
+
+    def factor(self) -> Node:
+        """factor := symbol | primary scripts"""
+        tok = self.s.peek()
+        if tok is None:
+            raise self._missing_operand()
+        start = self.s.pos
+        if self.starts_symbol(tok):
+            return self.symbol_factor()
+        if tok.kind is TokenKind.OPEN:
+            base = self._group_base()
+            if base is not None:
+                self.note("group", base.span, "scripts after the braces attach to the symbol inside")
+                return self.after_base(base, start)
+        node = self.primary()
+        return self.scripts_on(node, start)
+
+    def _missing_operand(self) -> ParseError:
+        """The error for an expression that ends where an operand is due."""
+        if self.s.pos > 0 and self.s.boundary() is None:
+            last = self.s.tokens[self.s.pos - 1]
+            return self.s.error(
+                f"the expression ends after {describe(last)} at {self.s.where(last.span)}; expected an operand",
+                last.span,
+            )
+        return self.s.unexpected(None, "an operand")
+
+    def _group_base(self) -> Base | None:
+        """``{x}``: a brace group holding one bare symbol base (rule ``group``)."""
+        i = self.s.pos
+        j = self.s.match.get(i)
+        if j is None or j >= self.s.limit or j == i + 1 or not self.starts_symbol(self.s.tokens[i + 1]):
+            return None
+        base = self.attempt(lambda: self.region(i + 1, j, self.symbol_base))
+        if not isinstance(base, Base):
+            return None
+        self.s.pos = j + 1
+        return base
+
+    def symbol_factor(self) -> Node:
+        """symbol := base scripts | function-word call"""
+        start = self.s.pos
+        base = self.symbol_base()
+        if isinstance(base, FunctionName):
+            return self.function_call(base.func, base.user, start)
+        if isinstance(base, Node):
+            return self.scripts_on(base, start)
+        return self.after_base(base, start)
+
+    def after_base(self, base: Base, start: int) -> Node:
+        """A base's application (dual-role and declared functions) or its scripts."""
+        func, user = self._function_role(base)
+        if func is not None and (self.at_paren() or (user and self._power_then_paren())):
+            return self.function_call(func, user, start)
+        scripts = self.read_scripts()
+        node = self.build_symbol(base, scripts, start)
+        if self.at_paren() and isinstance(node, n.Symbol):
+            if func is not None:
+                raise self.s.error(
+                    f"the function '{self.s.text_of(node.span)}' at {self.s.where(node.span)} is written with "
+                    "scripts before its argument, which is not read",
+                    node.span,
+                )
+            self.note(
+                "undeclared-product", node.span.join(self.s.tokens[self.s.pos].span),
+                f"product ({node.name} is not declared a function)",
+            )
+        elif func is not None and isinstance(node, (n.Symbol, n.Pow)):
+            self.note("dual-role-symbol", node.span, f"{base.name} is a symbol here (no parenthesis follows)")
+        return node
+
+    def _function_role(self, base: Base) -> tuple[str | None, bool]:
+        if base.name in self.vocab.functions:
+            return base.name, True
+        if base.kind == "greek" and base.name in DUAL_FUNCTION_COMMANDS and base.name not in self.vocab.tensors:
+            return DUAL_FUNCTION_COMMANDS[base.name], False
+        return None, False
+
+    def at_paren(self) -> bool:
+        """Whether a '(' (or ``\\left(``) that opens stands next."""
+        tok = self.s.peek()
+        return tok is not None and tok.is_symbol("(") and self.s.role() != "close"
+
+    def _power_then_paren(self) -> bool:
+        tok = self.s.peek()
+        if tok is None or tok.kind is not TokenKind.SUP:
+            return False
+        saved = self.s.pos
+        try:
+            self.s.advance()
+            self.argument(tok)
+            return self.at_paren()
+        except ParseError:
+            return False
+        finally:
+            self.s.pos = saved
+
+    def scripts_on(self, node: Node, start: int) -> Node:
+        """Scripts on a non-symbol: a subscript selects a component (rule ``component``),
+        a superscript is a transpose or a power."""
+        scripts = self.read_scripts()
+        if scripts.primes:
+            span = self.s.span_from(start)
+            raise self.s.error(
+                f"a prime after an expression at {self.s.where(span)} is not read (write ^\\top for a transpose)", span
+            )
+        subs = [item for item in scripts.items if item.mark == "_"]
+        sups = [item for item in scripts.items if item.mark == "^"]
+        if len(subs) > 1:
+            raise self.s.error(f"a second subscript at {self.s.where(subs[1].span)}", subs[1].span)
+        for item in subs:
+            node = self._component(node, item)
+        for item in sups:
+            kind, _ = self.sup_kind(item)
+            node = self.apply_sup(node, item, kind, node.span.join(item.span))
+        return node
+
+    def _component(self, node: Node, item: object) -> Node:
+        entries = self.sub_entries(item) or []
+        span = node.span.join(item.span)  # type: ignore[attr-defined]
+        if isinstance(node, n.Number) or any(e.node is None for e in entries):
+            raise self.s.error(
+                f"the subscript '{self.s.text_of(item.span)}' at {self.s.where(item.span)} "  # type: ignore[attr-defined]
+                "must hold indices or components to select a component",
+                item.span,  # type: ignore[attr-defined]
+            )
+        self.note("component", span, "a component of the expression")
+        return n.Component(node, tuple(e.node for e in entries if e.node is not None), span)
+
+    # ----------------------------------------------------------------- primaries
+
+    def primary(self) -> Node:
+        """primary := NUMBER | group | delimited | matrix | command-primary"""
+        tok = self.s.peek()
+        if tok is None:
+            raise self.s.unexpected(None, "an operand")
+        if tok.kind is TokenKind.NUMBER:
+            self.s.advance()
+            return n.Number(Fraction(tok.text), tok.text, tok.span)
+        if tok.kind is TokenKind.OPEN:
+            return self.group()
+        if tok.kind is TokenKind.BEGIN:
+            return self.matrix()
+        if tok.kind is TokenKind.PARAM:
+            raise self.s.error(f"macro parameter '#{tok.text}' at {self.s.where(tok.span)} outside a macro body", tok.span)
+        if tok.text in DELIMITERS and tok.kind in (TokenKind.SYMBOL, TokenKind.COMMAND) and self.s.role() != "close":
+            return self.delimited()
+        if tok.kind is TokenKind.COMMAND:
+            return self._command_primary(tok)
+        raise self.s.unexpected(tok, "an operand")
+
+    def _command_primary(self, tok: Token) -> Node:
+        method = _COMMAND_READERS.get(tok.text)
+        if method is not None:
+            return getattr(self, method)()  # type: ignore[no-any-return]
+        if tok.text in UNSUPPORTED:
+            raise self.s.error(f"{UNSUPPORTED[tok.text]} (at {self.s.where(tok.span)})", tok.span)
+        if tok.text in RELATION_TEXTS or tok.text in CLOSERS or tok.text in PRODUCT_OPERATORS or tok.text in SLASH_OPERATORS:
+            raise self.s.unexpected(tok, "an operand")
+        raise self.s.error(
+            f"unknown command '{tok.text}' at {self.s.where(tok.span)}: not a math command this reader "
+            "knows, nor a macro this document defines",
+            tok.span,
+        )
+
+    def group(self) -> Node:
+        """group := '{' expression '}'  (rule ``group``)"""
+        tok = self.s.peek()
+        assert tok is not None
+        i = self.s.pos
+        j = self.s.match.get(i)
+        if j is None or j >= self.s.limit:
+            raise self.s.error(f"'{{' at {self.s.where(tok.span)} is never closed", tok.span)
+        if j == i + 1:
+            raise self.s.error(f"an empty group '{{}}' at {self.s.where(tok.span)} is not an operand", tok.span)
+        self.s.pos = j + 1
+        inner = self.region(i + 1, j, self.expression)
+        return dataclasses.replace(inner, span=self.s.span_from(i))  # type: ignore[type-var]
+
+    def delimited(self) -> Node:
+        """delimited := '(' expression ')' | '[' … ']' | '\\{' … '\\}' | bar expression bar
+        | '\\langle' expression ',' expression '\\rangle'"""
+        start = self.s.pos
+        opener = self.s.advance()
+        closer, kind = DELIMITERS[opener.text]
+        saved_bar = self.open_bar
+        self.open_bar = BAR_KIND.get(opener.text)
+        try:
+            first = self.expression()
+            second = None
+            if kind == "inner":
+                comma = self.s.peek()
+                if comma is None or not comma.is_symbol(","):
+                    raise self._not_closed(opener, "','")
+                self.s.advance()
+                second = self.expression()
+            self._close(opener, closer, kind)
+        finally:
+            self.open_bar = saved_bar
+        span = self.s.span_from(start)
+        if kind == "inner":
+            assert second is not None
+            return n.Inner(first, second, span)
+        if kind == "abs":
+            return n.Abs(first, span)
+        if kind == "norm":
+            return self._norm_scripts(n.Norm(first, None, span), start)
+        return dataclasses.replace(first, span=span)  # type: ignore[type-var]
+
+    def _close(self, opener: Token, closer: str, kind: str) -> None:
+        tok = self.s.peek()
+        role = self.s.role()
+        if tok is not None and role != "open":
+            if tok.text == closer or (kind in ("abs", "norm") and BAR_KIND.get(tok.text) == kind):
+                self.s.advance()
+                return
+            if kind == "norm" and tok.text in ("\\rVert",):
+                self.s.advance()
+                return
+        raise self._not_closed(opener, f"'{closer}'")
+
+    def _not_closed(self, opener: Token, expected: str) -> ParseError:
+        tok = self.s.peek()
+        written = self.s.text_of(opener.span)
+        if tok is None:
+            boundary = self.s.boundary()
+            if boundary is None:
+                return self.s.error(f"'{written}' at {self.s.where(opener.span)} is never closed", opener.span)
+            tok = boundary
+        return self.s.error(
+            f"expected {expected} to close the '{written}' at {self.s.where(opener.span)}, found "
+            f"{describe(tok)} at {self.s.where(tok.span)}",
+            tok.span,
+        )
+
+    def _norm_scripts(self, norm: n.Norm, start: int) -> Node:
+        """A norm's subscript is its kind (2, 1, F, \\infty); a superscript is a power."""
+        node: Node = norm
+        for item in self.read_scripts().items:
+            if item.mark == "_":
+                toks = self.s.tokens[item.start : item.end]
+                key = tuple(t.text.strip() for t in toks if t.kind not in (TokenKind.OPEN, TokenKind.CLOSE))
+                if key not in NORM_KINDS or not isinstance(node, n.Norm):
+                    raise self.s.error(
+                        f"the norm subscript '{self.s.text_of(item.span)}' at {self.s.where(item.span)} is not "
+                        "read (use 1, 2, F or \\infty)",
+                        item.span,
+                    )
+                node = n.Norm(node.operand, NORM_KINDS[key], node.span.join(item.span))
+            else:
+                kind, _ = self.sup_kind(item)
+                node = self.apply_sup(node, item, kind, node.span.join(item.span))
+        return node
+
+    # ----------------------------------------------------------------- functions
+
+    def function_command(self) -> Node:
+        """function-command := \\exp | \\log | … call"""
+        start = self.s.pos
+        tok = self.s.advance()
+        return self.function_call(FUNCTION_COMMANDS[tok.text], False, start)
+
+    def operatorname(self) -> Node:
+        """operatorname := \\operatorname ['*'] '{' letters '}' call"""
+        start = self.s.pos
+        cmd = self.s.advance()
+        starred = self.s.peek() is not None and self.s.peek().is_symbol("*")  # type: ignore[union-attr]
+        if starred:
+            self.s.advance()
+        a, b = self.argument(cmd)
+        toks = self.s.tokens[a:b]
+        name = "".join(t.text for t in toks)
+        if not toks or not all(t.kind in (TokenKind.LETTER, TokenKind.NUMBER) or t.is_symbol("-") for t in toks):
+            span = self.s.span_from(start)
+            raise self.s.error(f"the operator name at {self.s.where(span)} must be letters", span)
+        nxt = self.s.peek()
+        if nxt is not None and nxt.kind is TokenKind.SUB:
+            span = self.s.span_from(start)
+            raise self.s.error(
+                f"the operator '{name}' with a subscript at {self.s.where(span)} (such as argmin_x) is not read", span
+            )
+        if name in OPERATOR_NAMES:
+            return self.function_call(OPERATOR_NAMES[name], False, start)
+        return self.function_call(name, True, start)
+
+    def function_call(self, func: str, user: bool, start: int) -> Node:
+        """call := ['^' argument] ( '(' expression (',' expression)* ')' | '{' expression '}'
+        | factor )   (rules ``function-*``)"""
+        tok = self.s.peek()
+        if tok is not None and tok.kind is TokenKind.COMMAND and (func, FUNCTION_COMMANDS.get(tok.text, "")) in FUSED_FUNCTIONS:
+            self.s.advance()
+            func = FUSED_FUNCTIONS[(func, FUNCTION_COMMANDS[tok.text])]
+        name_span = self.s.span_from(start)
+        power = self._function_power(name_span)
+        if self.at_paren():
+            args = self.argument_list()
+            self.note("function-applied", self.s.span_from(start), f"the function {func} applied")
+        elif (tok := self.s.peek()) is not None and tok.kind is TokenKind.OPEN:
+            args = (self.group(),)
+            self.note("function-applied", self.s.span_from(start), f"the function {func} applied")
+        else:
+            args = (self._next_factor(func, name_span),)
+            self.note("function-next-factor", self.s.span_from(start), f"{func} applied to the next factor only")
+        if not user and len(args) != 1:
+            raise self.s.error(f"{func} at {self.s.where(name_span)} takes one argument, not {len(args)}", self.s.span_from(start))
+        node: Node = n.Apply(func, args, user, self.s.span_from(start))
+        node = self.scripts_on(node, start)
+        if power is not None:
+            self.note("function-power", node.span, "the power applies to the function's value")
+            node = n.Pow(node, power, node.span)
+        return node
+
+    def _function_power(self, name_span: Span) -> Node | None:
+        tok = self.s.peek()
+        if tok is not None and tok.kind is TokenKind.SUB:
+            raise self.s.error(
+                f"a subscript on the function at {self.s.where(name_span)} (a base or an index) is not read", tok.span
+            )
+        if tok is None or tok.kind is not TokenKind.SUP:
+            return None
+        scripts = self.read_scripts()
+        if scripts.primes or len(scripts.items) != 1 or scripts.items[0].mark != "^":
+            raise self.s.error(f"only a power may be written on the function at {self.s.where(name_span)}", name_span)
+        item = scripts.items[0]
+        kind, _ = self.sup_kind(item)
+        if kind != "power":
+            raise self.s.error(f"the superscript on the function at {self.s.where(item.span)} must be a power", item.span)
+        return self.exponent(item)
+
+    def _next_factor(self, func: str, name_span: Span) -> Node:
+        tok = self.s.peek()
+        if tok is not None and tok.is_symbol("-"):
+            at = self.s.pos
+            self.s.advance()
+            return n.Neg(self._next_factor(func, name_span), self.s.span_from(at))
+        if tok is None or not self.starts_factor(tok, operand=True):
+            raise self.s.error(f"the function {func} at {self.s.where(name_span)} needs an argument", name_span)
+        return self.factor()
+
+    def argument_list(self) -> tuple[Node, ...]:
+        """arguments := '(' expression (',' expression)* ')'"""
+        opener = self.s.advance()
+        saved_bar, self.open_bar = self.open_bar, None
+        try:
+            args = [self.expression()]
+            while (tok := self.s.peek()) is not None and tok.is_symbol(","):
+                self.s.advance()
+                args.append(self.expression())
+            self._close(opener, ")", "paren")
+        finally:
+            self.open_bar = saved_bar
+        return tuple(args)
+
+    # ----------------------------------------------------------------- matrices
+
+    def matrix(self) -> Node:
+        """matrix := \\begin{env} row ('\\\\' row)* \\end{env};  row := expression ('&' expression)*"""
+        start = self.s.pos
+        begin = self.s.advance()
+        env = begin.text
+        meaning = MATRIX_ENVIRONMENTS.get(env)
+        if meaning is None:
+            raise self.s.error(f"the environment '{env}' at {self.s.where(begin.span)} is not read inside an expression", begin.span)
+        saved_bar, self.open_bar = self.open_bar, None
+        try:
+            rows = self._matrix_rows(begin)
+        finally:
+            self.open_bar = saved_bar
+        span = self.s.span_from(start)
+        widths = {len(row) for row in rows}
+        if len(widths) != 1:
+            raise self.s.error(f"the rows of the {env} at {self.s.where(begin.span)} have different lengths", span)
+        node: Node = n.MatrixLiteral(tuple(rows), span)
+        if meaning == "det":
+            self.note("vmatrix", span, "the determinant of the matrix")
+            node = n.Apply("det", (node,), False, span)
+        return node
+
+    def _matrix_rows(self, begin: Token) -> list[tuple[Node, ...]]:
+        rows: list[tuple[Node, ...]] = []
+        row: list[Node] = []
+        while True:
+            tok = self.s.peek()
+            if tok is None:
+                raise self.s.error(f"\\begin{{{begin.text}}} at {self.s.where(begin.span)} is never closed", begin.span)
+            if tok.kind is TokenKind.END:
+                if tok.text != begin.text:
+                    raise self.s.unexpected(tok, f"\\end{{{begin.text}}}")
+                self.s.advance()
+                break
+            if tok.kind is TokenKind.ROW_BREAK:
+                self.s.advance()
+                if row:
+                    rows.append(tuple(row))
+                row = []
+                continue
+            row.append(self.expression())
+            tok = self.s.peek()
+            if tok is not None and tok.kind is TokenKind.ALIGN:
+                self.s.advance()
+                nxt = self.s.peek()
+                if nxt is not None and nxt.kind in (TokenKind.ROW_BREAK, TokenKind.END, TokenKind.ALIGN):
+                    raise self.s.error(f"an empty matrix entry at {self.s.where(nxt.span)}", nxt.span)
+            elif tok is None or tok.kind not in (TokenKind.ROW_BREAK, TokenKind.END):
+                raise self.s.unexpected(tok, f"'&', '\\\\' or \\end{{{begin.text}}}")
+        if row:
+            rows.append(tuple(row))
+        if not rows:
+            raise self.s.error(f"the {begin.text} at {self.s.where(begin.span)} is empty", begin.span)
+        return rows

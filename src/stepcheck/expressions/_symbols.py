@@ -1,0 +1,662 @@
+"""Symbols and their scripts: letters, fonts, accents, subscripts and superscripts.
+
+A mixin of the reader (:class:`stepcheck.expressions.parser.Reader`).  Grammar::
+
+    symbol      := base scripts
+    base        := LETTER | GREEK | font '{' base '}' | accent '{' base '}' | text-word
+    scripts     := ( "'" | '_' argument | '^' argument | '{}' )*
+    argument    := '{' tokens '}' | one token (a command with its own argument counts as one)
+
+A subscript holds index letters, components and labels (SPEC §7); a superscript is a
+transpose, a label, upper indices (up-down mode) or a power.  The ambiguity rules
+applied here are in :data:`~stepcheck.expressions.vocabulary.AMBIGUITY_RULES`.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, replace
+from fractions import Fraction
+from typing import TYPE_CHECKING, Callable, TypeVar
+
+from ..source import Span
+from . import nodes as n
+from ._stream import describe as _describe
+from .tokens import Token, TokenKind
+from .vocabulary import (
+    ACCENTS,
+    BOLD_FONTS,
+    GREEK,
+    LABEL_COMMANDS,
+    NAMED_FONTS,
+    OPERATOR_NAMES,
+    PLAIN_FONTS,
+    SUPERSCRIPT_MARKS,
+    TEXT_FONTS,
+    UNSUPPORTED,
+    is_index_name,
+)
+
+if TYPE_CHECKING:
+    from ..context.model import Vocabulary
+    from ._stream import Reading, Stream
+
+T = TypeVar("T")
+
+_WORD = re.compile(r"[A-Za-z][A-Za-z0-9]*\Z")
+_LABEL_WORD = re.compile(r"[A-Za-z0-9]+\Z")
+#: Commands that take one argument of their own (so ``^\mathsf{T}`` is one script argument).
+_ONE_ARGUMENT = BOLD_FONTS | NAMED_FONTS | PLAIN_FONTS | ACCENTS | TEXT_FONTS
+#: Token kinds that can never be an argument.
+_NOT_ARGUMENTS = (TokenKind.CLOSE, TokenKind.SUB, TokenKind.SUP, TokenKind.ALIGN, TokenKind.ROW_BREAK, TokenKind.END)
+
+
+@dataclass(frozen=True, slots=True)
+class Base:
+    """A symbol's base before its scripts: ``x``, ``\\alpha``, ``\\hat{y}``, ``\\mathcal{L}``."""
+
+    name: str
+    bold: bool
+    span: Span
+    kind: str
+    """``letter``, ``greek``, ``word``, ``named``, ``accent`` or ``digit`` (bold 1 or 0)."""
+
+
+@dataclass(frozen=True, slots=True)
+class FunctionName:
+    """A base that names a function (``\\mathrm{tr}``, ``\\text{softmax}``, a declared word)."""
+
+    func: str
+    user: bool
+    span: Span
+
+
+@dataclass(frozen=True, slots=True)
+class Script:
+    """One ``_`` or ``^`` and the token range ``[start, end)`` of its argument."""
+
+    mark: str
+    start: int
+    end: int
+    span: Span
+
+
+@dataclass(frozen=True, slots=True)
+class Scripts:
+    """Everything written after a base."""
+
+    primes: int
+    items: tuple[Script, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class Entry:
+    """One subscript entry: an index or component node, or a label that joins the name."""
+
+    node: n.Index | n.Fixed | None
+    label: str | None
+    span: Span
+
+
+class SymbolReading:
+    """Reader mixin: symbols, names and scripts."""
+
+    s: Stream
+    vocab: Vocabulary
+    bold: int
+    expression: Callable[[], n.Node]
+    note: Callable[[str, Span, str], None]
+    enter: Callable[[Token | None], None]
+    leave: Callable[[], None]
+    region: Callable[[int, int, Callable[[], T]], T]
+    attempt: Callable[[Callable[[], T]], T | None]
+
+    # ----------------------------------------------------------------- bases
+
+    def starts_symbol(self, tok: Token) -> bool:
+        """Whether ``tok`` starts a symbol base."""
+        if tok.kind is TokenKind.LETTER:
+            return True
+        return tok.kind is TokenKind.COMMAND and (tok.text in GREEK or tok.text in _ONE_ARGUMENT)
+
+    def symbol_base(self) -> Base | FunctionName | n.Node:
+        """base := LETTER | GREEK | font argument | accent argument | text-word.
+
+        :returns: a :class:`Base`; a :class:`FunctionName` for a function word; or a
+            node when a bold font covers a whole expression (``\\mathbf{Ax}``).
+        """
+        tok = self.s.peek()
+        self.enter(tok)
+        try:
+            start = self.s.pos
+            tok = self.s.advance()
+            if tok.kind is TokenKind.LETTER:
+                return Base(tok.text, self.bold > 0, tok.span, "letter")
+            if tok.text in GREEK:
+                return Base(tok.text, self.bold > 0, tok.span, "greek")
+            if tok.text in TEXT_FONTS:
+                return self._text_base(tok, start)
+            a, b = self.argument(tok)
+            span = self.s.span_from(start)
+            if tok.text in BOLD_FONTS:
+                return self._bold_base(a, b, span)
+            if tok.text in NAMED_FONTS:
+                return self._named_base(tok, a, b, span)
+            if tok.text in PLAIN_FONTS:
+                return self._plain_base(tok, a, b, span)
+            return self._accent_base(tok, a, b, span)
+        finally:
+            self.leave()
+
+    def _region_base(self, a: int, b: int) -> Base | FunctionName | n.Node | None:
+        """The base that fills tokens ``[a, b)`` exactly, or None."""
+        if b <= a or not self.starts_symbol(self.s.tokens[a]):
+            return None
+        return self.attempt(lambda: self.region(a, b, self.symbol_base))
+
+    def _bold_base(self, a: int, b: int, span: Span) -> Base | FunctionName | n.Node:
+        toks = self.s.tokens
+        if b - a == 1 and toks[a].kind is TokenKind.NUMBER and toks[a].text in ("0", "1"):
+            return Base(toks[a].text, True, span, "digit")
+        inner = self._region_base(a, b)
+        if isinstance(inner, Base):
+            return replace(inner, bold=True, span=span)
+        if inner is not None:
+            return inner
+        self.bold += 1
+        try:
+            return self.region(a, b, self.expression)
+        finally:
+            self.bold -= 1
+
+    def _named_base(self, cmd: Token, a: int, b: int, span: Span) -> Base:
+        toks = self.s.tokens
+        if b - a == 1 and toks[a].kind is TokenKind.NUMBER and toks[a].text == "1":
+            return Base("1", True, span, "digit")
+        inner = self._region_base(a, b)
+        if isinstance(inner, Base) and inner.kind == "letter":
+            return Base(f"{cmd.text}{{{inner.name}}}", inner.bold or self.bold > 0, span, "named")
+        raise self.s.error(f"{cmd.text} at {self.s.where(cmd.span)} takes one letter", span)
+
+    def _plain_base(self, cmd: Token, a: int, b: int, span: Span) -> Base | FunctionName:
+        toks = self.s.tokens[a:b]
+        if len(toks) == 1 and toks[0].text in GREEK:
+            return Base(toks[0].text, self.bold > 0, span, "greek")
+        if toks and toks[0].kind is TokenKind.LETTER and all(
+            t.kind in (TokenKind.LETTER, TokenKind.NUMBER) for t in toks
+        ):
+            return self._word("".join(t.text for t in toks), span)
+        raise self.s.error(f"{cmd.text}{{…}} at {self.s.where(cmd.span)} must hold a name of letters", span)
+
+    def _text_base(self, cmd: Token, start: int) -> Base | FunctionName:
+        tok = self.s.peek()
+        if tok is None or tok.kind is not TokenKind.TEXT:
+            raise self.s.error(f"{cmd.text} at {self.s.where(cmd.span)} needs a {{…}} argument", cmd.span)
+        self.s.advance()
+        word = tok.text.strip()
+        if not _WORD.match(word):
+            raise self.s.error(
+                f"text '{tok.text}' at {self.s.where(tok.span)} is not math: inside an expression "
+                "\\text{…} must be a name",
+                tok.span,
+            )
+        return self._word(word, self.s.span_from(start))
+
+    def _word(self, word: str, span: Span) -> Base | FunctionName:
+        """A word written upright (rule ``word-name``): a function when known or declared."""
+        if word in self.vocab.functions:
+            return FunctionName(word, True, span)
+        if word in OPERATOR_NAMES:
+            return FunctionName(OPERATOR_NAMES[word], False, span)
+        if len(word) == 1:
+            return Base(word, self.bold > 0, span, "letter")
+        self.note("word-name", span, f"a symbol named {word}")
+        return Base(word, self.bold > 0, span, "word")
+
+    def _accent_base(self, cmd: Token, a: int, b: int, span: Span) -> Base:
+        inner = self._region_base(a, b)
+        if isinstance(inner, Base) and inner.kind in ("letter", "greek", "named"):
+            return Base(f"{cmd.text}{{{inner.name}}}", inner.bold or self.bold > 0, span, "accent")
+        raise self.s.error(
+            f"the accent {cmd.text} at {self.s.where(cmd.span)} must stand over one symbol", span
+        )
+
+    # ----------------------------------------------------------------- arguments and scripts
+
+    def argument(self, owner: Token) -> tuple[int, int]:
+        """argument := '{' tokens '}' | one token.  Moves past it.
+
+        :param owner: the command or script mark that takes the argument (for errors).
+        :returns: the token range of the argument's content.
+        :raises ParseError: no argument, or an unclosed brace (reported where it opened).
+        """
+        tok = self.s.peek()
+        what = "a subscript" if owner.kind is TokenKind.SUB else "a superscript" if owner.kind is TokenKind.SUP else None
+        if tok is None or tok.kind in _NOT_ARGUMENTS:
+            need = f"'{owner.text}' at {self.s.where(owner.span)} needs {what or 'an argument'}"
+            if tok is None:
+                raise self.s.error(need, owner.span)
+            raise self.s.error(f"{need}, not {_describe(tok)}", tok.span)
+        i = self.s.pos
+        if tok.kind is TokenKind.OPEN:
+            j = self.s.match.get(i)
+            if j is None or j >= self.s.limit:
+                raise self.s.error(f"'{{' at {self.s.where(tok.span)} is never closed", tok.span)
+            self.s.pos = j + 1
+            return i + 1, j
+        self.s.pos += 1
+        if tok.kind is TokenKind.COMMAND and tok.text in TEXT_FONTS:
+            nxt = self.s.peek()
+            if nxt is not None and nxt.kind is TokenKind.TEXT:
+                self.s.pos += 1
+        elif tok.kind is TokenKind.COMMAND and tok.text in _ONE_ARGUMENT:
+            self.argument(tok)
+        return i, self.s.pos
+
+    def read_scripts(self) -> Scripts:
+        """scripts := ( "'" | '_' argument | '^' argument | '{}' )*, one of each per atom."""
+        primes = 0
+        items: list[Script] = []
+        has_sub = has_sup = False
+        while (tok := self.s.peek()) is not None:
+            if tok.is_symbol("'"):
+                if has_sup:
+                    raise self.s.error(f"a prime after a superscript at {self.s.where(tok.span)} (double superscript)", tok.span)
+                self.s.advance()
+                primes += 1
+            elif tok.kind in (TokenKind.SUB, TokenKind.SUP):
+                sub = tok.kind is TokenKind.SUB
+                if (has_sub if sub else has_sup):
+                    kind = "subscript" if sub else "superscript"
+                    raise self.s.error(
+                        f"a second {kind} at {self.s.where(tok.span)}: write all entries in one "
+                        "(x_{ij}) or brace the base ({x^2}^3)",
+                        tok.span,
+                    )
+                start = self.s.pos
+                self.s.advance()
+                a, b = self.argument(tok)
+                if b <= a:
+                    raise self.s.error(f"empty {'subscript' if sub else 'superscript'} at {self.s.where(tok.span)}", tok.span)
+                items.append(Script(tok.text, a, b, self.s.span_from(start)))
+                has_sub, has_sup = has_sub or sub, has_sup or not sub
+            elif items and self._empty_group_then_script():
+                self.s.pos += 2
+                has_sub = has_sup = False
+            else:
+                break
+        return Scripts(primes, tuple(items))
+
+    def _empty_group_then_script(self) -> bool:
+        """``{}`` followed by ``_`` or ``^`` (``T^{i}{}_{j}``)."""
+        tok, close, after = self.s.peek(), self.s.peek(1), self.s.peek(2)
+        return (
+            tok is not None and tok.kind is TokenKind.OPEN and close is not None
+            and close.kind is TokenKind.CLOSE and after is not None
+            and after.kind in (TokenKind.SUB, TokenKind.SUP)
+        )
+
+    # ----------------------------------------------------------------- subscripts
+
+    def sub_entries(self, script: Script, up: bool = False, strict: bool = True) -> list[Entry] | None:
+        """The entries of a subscript (rules ``subscript-*``).
+
+        :param script: the subscript.
+        :param up: entries are written as a superscript (up-down mode).
+        :param strict: raise on a token that is not an entry; else return None.
+        :raises ParseError: an arithmetic or otherwise unreadable subscript.
+        """
+        toks = self.s.tokens
+        pieces = _split_commas(toks, script.start, script.end, self.s.match)
+        comma = len(pieces) > 1
+        entries: list[Entry] = []
+        for a, b in pieces:
+            run = self._entry_run(a, b, comma, up) if b > a else None
+            if run is None:
+                if not strict:
+                    return None
+                text = self.s.text_of(script.span)
+                raise self.s.error(
+                    f"the subscript '{text}' at {self.s.where(script.span)} is not read: a subscript "
+                    "holds index letters, digits, commas or a \\text{label}",
+                    script.span,
+                )
+            entries.extend(run)
+        return self._zero_rule(entries, comma, script)
+
+    def _entry_run(self, a: int, b: int, comma: bool, up: bool) -> list[Entry] | None:
+        toks = self.s.tokens
+        if b - a > 1 and all(t.kind is TokenKind.LETTER for t in toks[a:b]):
+            word = "".join(t.text for t in toks[a:b])
+            if word in self.vocab.labels:
+                return [Entry(None, word, toks[a].span.join(toks[b - 1].span))]
+        out: list[Entry] = []
+        i = a
+        while i < b:
+            got = self._entry(i, b, comma, up)
+            if got is None:
+                return None
+            entries, i = got
+            out.extend(entries)
+        return _merge_letter_labels(out)
+
+    def _entry(self, i: int, b: int, comma: bool, up: bool) -> tuple[list[Entry], int] | None:
+        t = self.s.tokens[i]
+        if t.kind is TokenKind.LETTER:
+            return [self._name_entry(t, up)], i + 1
+        if t.kind is TokenKind.NUMBER:
+            return self._number_entries(t, comma, up), i + 1
+        if t.kind is TokenKind.OPEN:
+            j = self.s.match.get(i, b)
+            inner = self.s.tokens[i + 1 : j]
+            if len(inner) == 1 and inner[0].kind is TokenKind.NUMBER and inner[0].text.isdigit():
+                return [Entry(n.Fixed(int(inner[0].text), up, inner[0].span), None, inner[0].span)], j + 1
+            return None
+        if t.kind is TokenKind.COMMAND:
+            if t.text in GREEK:
+                return [self._name_entry(t, up)], i + 1
+            if t.text in LABEL_COMMANDS:
+                return [Entry(None, LABEL_COMMANDS[t.text], t.span)], i + 1
+            if t.text in TEXT_FONTS | PLAIN_FONTS:
+                return self._word_entry(t, i, b)
+        if t.is_symbol("*"):
+            return [Entry(None, "*", t.span)], i + 1
+        return None
+
+    def _name_entry(self, t: Token, up: bool) -> Entry:
+        name = t.text
+        if name in self.vocab.labels:
+            self.note("subscript-label", t.span, f"{name} is a declared label, part of the name")
+            return Entry(None, name, t.span)
+        if is_index_name(name, self.vocab):
+            return Entry(n.Index(name, up, t.span), None, t.span)
+        if name in self.vocab.dimensions:
+            self.note("subscript-dimension", t.span, f"{name} is a dimension: the {name}-th (last) component")
+            return Entry(n.Fixed(name, up, t.span), None, t.span)
+        self.note("subscript-label", t.span, f"{name} is not an index letter: part of the name")
+        return Entry(None, name, t.span)
+
+    def _number_entries(self, t: Token, comma: bool, up: bool) -> list[Entry]:
+        if not t.text.isdigit():
+            raise self.s.error(f"the subscript number '{t.text}' at {self.s.where(t.span)} is not a component", t.span)
+        if comma or len(t.text) == 1:
+            return [Entry(n.Fixed(int(t.text), up, t.span), None, t.span)]
+        self.note("subscript-digits", t.span, f"each digit is one component: ({', '.join(t.text)})")
+        return [Entry(n.Fixed(int(d), up, t.span), None, t.span) for d in t.text]
+
+    def _word_entry(self, t: Token, i: int, b: int) -> tuple[list[Entry], int] | None:
+        toks = self.s.tokens
+        if t.text in TEXT_FONTS:
+            if i + 1 < b and toks[i + 1].kind is TokenKind.TEXT and _LABEL_WORD.match(toks[i + 1].text.strip()):
+                span = t.span.join(toks[i + 1].span)
+                self.note("subscript-label", span, f"{toks[i + 1].text.strip()} is a label, part of the name")
+                return [Entry(None, toks[i + 1].text.strip(), span)], i + 2
+            return None
+        if i + 1 < b and toks[i + 1].kind is TokenKind.OPEN:
+            j = self.s.match.get(i + 1, b)
+            inner = toks[i + 2 : j]
+            end = j + 1
+        elif i + 1 < b:
+            inner, end = toks[i + 1 : i + 2], i + 2
+        else:
+            return None
+        word = "".join(x.text for x in inner)
+        if inner and all(x.kind in (TokenKind.LETTER, TokenKind.NUMBER) for x in inner) and _LABEL_WORD.match(word):
+            span = t.span.join(toks[end - 1].span)
+            self.note("subscript-label", span, f"{word} is a label, part of the name")
+            return [Entry(None, word, span)], end
+        return None
+
+    def _zero_rule(self, entries: list[Entry], comma: bool, script: Script) -> list[Entry]:
+        """Rule ``subscript-zero-name``: ``\\beta_0`` names a symbol when counting is one-based."""
+        fixed = [e.node for e in entries if isinstance(e.node, n.Fixed) and isinstance(e.node.value, int)]
+        if not self.vocab.one_based or len(fixed) != len(entries) or not any(f.value == 0 for f in fixed):
+            return entries
+        label = ("," if comma else "").join(str(f.value) for f in fixed)  # type: ignore[union-attr]
+        self.note("subscript-zero-name", script.span, f"a 0 subscript under one-based counting: part of the name ({label})")
+        return [Entry(None, label, script.span)]
+
+    # ----------------------------------------------------------------- superscripts
+
+    def sup_kind(self, script: Script) -> tuple[str, str | None]:
+        """What a superscript is: ``transpose``, ``inverse-transpose``, ``label``, ``prime``,
+        ``prime2`` or ``power`` (with the label text for ``label``)."""
+        toks = self.s.tokens[script.start : script.end]
+        key = tuple(t.text for t in toks if t.kind not in (TokenKind.OPEN, TokenKind.CLOSE, TokenKind.TEXT)) + tuple(
+            t.text.strip() for t in toks if t.kind is TokenKind.TEXT
+        )
+        mark = SUPERSCRIPT_MARKS.get(key)
+        if mark == "unsupported":
+            raise self.s.error(
+                f"the superscript '{self.s.text_of(script.span)}' at {self.s.where(script.span)} is not read "
+                "(pseudo-inverse or adjoint)",
+                script.span,
+            )
+        if mark == "star":
+            return "label", "*"
+        if mark is not None:
+            return mark, None
+        label = _parenthesised_label(toks)
+        if label is not None:
+            return "label", label
+        return "power", None
+
+    def exponent(self, script: Script) -> n.Node:
+        """The exponent of a power; ``-1`` folds to the number -1 (``A^{-1}``)."""
+        node = self.region(script.start, script.end, self.expression)
+        if isinstance(node, n.Neg) and isinstance(node.operand, n.Number):
+            num = node.operand
+            return n.Number(-num.value, "-" + num.text, node.span)
+        return node
+
+    def apply_sup(self, node: n.Node, script: Script, kind: str, span: Span) -> n.Node:
+        """Apply a transpose or power superscript to ``node``."""
+        if kind == "transpose":
+            self.note("transpose", span, "transpose")
+            return n.Transpose(node, span)
+        if kind == "inverse-transpose":
+            self.note("inverse-transpose", span, "transpose of the inverse")
+            return n.Transpose(n.Pow(node, n.Number(Fraction(-1), "-1", script.span), span), span)
+        if kind == "power":
+            return n.Pow(node, self.exponent(script), span)
+        raise self.s.error(
+            f"the superscript '{self.s.text_of(script.span)}' at {self.s.where(script.span)} names a symbol "
+            "and cannot stand on an expression",
+            script.span,
+        )
+
+
+def _split_commas(toks: list[Token], a: int, b: int, match: dict[int, int]) -> list[tuple[int, int]]:
+    """Ranges between top-level commas of ``toks[a:b]``."""
+    pieces: list[tuple[int, int]] = []
+    i = start = a
+    while i < b:
+        if toks[i].kind is TokenKind.OPEN and i in match:
+            i = match[i] + 1
+            continue
+        if toks[i].is_symbol(","):
+            pieces.append((start, i))
+            start = i + 1
+        i += 1
+    pieces.append((start, b))
+    return pieces
+
+
+def _merge_letter_labels(entries: list[Entry]) -> list[Entry]:
+    """Adjacent single-letter labels form one label (``\\Sigma_{XY}`` → ``XY``)."""
+    out: list[Entry] = []
+    for e in entries:
+        prev = out[-1] if out else None
+        if (
+            prev is not None and prev.label is not None and e.label is not None
+            and _WORD.match(prev.label) and len(e.label) == 1 and e.label.isalpha()
+        ):
+            out[-1] = Entry(None, prev.label + e.label, prev.span.join(e.span))
+        else:
+            out.append(e)
+    return out
+
+
+_LABEL_TOKENS = (TokenKind.LETTER, TokenKind.NUMBER)
+
+
+def _parenthesised_label(toks: list[Token]) -> str | None:
+    """``(l)``, ``(2)``, ``(t+1)``, ``(\\ell)`` → the label text; else None."""
+    if len(toks) < 3 or not toks[0].is_symbol("(") or not toks[-1].is_symbol(")"):
+        return None
+    text = "("
+    for prev, t in zip(toks[:-2], toks[1:-1]):
+        ok = t.kind in _LABEL_TOKENS or t.is_symbol("+", "-", ",") or t.text in GREEK
+        if not ok:
+            return None
+        if prev.kind is TokenKind.COMMAND and t.kind is TokenKind.LETTER:
+            text += " "
+        text += t.text
+    return text + ")"
+
+
+# --------------------------------------------------------------------------- building symbols
+
+#: Specials sized by their subscript (``I_n``, ``\mathbf{1}_n``).
+_SIZED = ("identity", "ones", "zero")
+
+
+class SymbolBuilding:
+    """Reader mixin: a base and its scripts → a Symbol, special tensor or constant."""
+
+    s: Stream
+    vocab: Vocabulary
+    readings: list[Reading]
+    note: Callable[[str, Span, str], None]
+    sub_entries: Callable[..., list[Entry] | None]
+    sup_kind: Callable[[Script], tuple[str, str | None]]
+    apply_sup: Callable[[n.Node, Script, str, Span], n.Node]
+
+    def build_symbol(self, base: Base, scripts: Scripts, start: int) -> n.Node:
+        """A symbol node from its base and scripts (rules ``scripts-attach``, ``subscript-*``,
+        ``superscript-label``, ``up-down`` and the specials)."""
+        special = self._special(base)
+        primes = scripts.primes
+        labels: list[str] = []
+        sup_label: str | None = None
+        subs: list[n.Index | n.Fixed] = []
+        powers: list[tuple[Script, str]] = []
+        size: int | str | None = None
+        symbol_span = base.span
+        for item in scripts.items:
+            if item.mark == "_":
+                symbol_span = symbol_span.join(item.span)
+                if special in _SIZED:
+                    size, special = self._size(special, item, subs)
+                    continue
+                for entry in self.sub_entries(item) or ():
+                    if entry.node is not None:
+                        subs.append(entry.node)
+                    else:
+                        labels.append(entry.label or "")
+                continue
+            kind, label = self.sup_kind(item)
+            if kind == "label":
+                if sup_label is not None:
+                    raise self.s.error(f"a second superscript label at {self.s.where(item.span)}", item.span)
+                sup_label = label
+                symbol_span = symbol_span.join(item.span)
+                self.note("superscript-label", item.span, f"^{{{label}}} is part of the name")
+            elif kind in ("prime", "prime2"):
+                primes += 1 if kind == "prime" else 2
+                symbol_span = symbol_span.join(item.span)
+            elif kind == "power" and self.vocab.up_down and special not in ("e", "pi", *_SIZED):
+                upper = self._upper_indices(item)
+                if upper is None:
+                    powers.append((item, kind))
+                else:
+                    subs.extend(upper)
+                    symbol_span = symbol_span.join(item.span)
+                    self.note("up-down", item.span, "upper indices")
+            else:
+                powers.append((item, kind))
+        named = bool(labels or sup_label or primes)
+        name = base.name + "'" * primes
+        if labels:
+            name += "_{" + ",".join(labels) + "}"
+        if sup_label is not None:
+            name += "^{" + sup_label + "}"
+        node = self._special_node(special, base, tuple(subs), size, named, symbol_span)
+        if node is None:
+            node = n.Symbol(name, tuple(subs), base.bold, symbol_span)
+        if powers and subs:
+            self.note("scripts-attach", symbol_span, "the subscript belongs to the symbol; the superscript applies after")
+        for item, kind in powers:
+            node = self.apply_sup(node, item, kind, node.span.join(item.span))
+        return node
+
+    def _special(self, base: Base) -> str | None:
+        """Which special a base can be (SPEC §7), unless declared an ordinary tensor."""
+        if base.kind == "digit":
+            return "ones" if base.name == "1" else "zero"
+        if base.name in self.vocab.tensors:
+            return None
+        if base.name == "\\delta":
+            return "delta"
+        if base.name in ("\\epsilon", "\\varepsilon"):
+            return "epsilon"
+        if base.name in ("I", "\\mathbb{I}") and base.kind in ("letter", "named"):
+            return "identity"
+        if base.name == "e" and not base.bold:
+            return "e"
+        if base.name == "\\pi" and not base.bold:
+            return "pi"
+        return None
+
+    def _size(self, special: str, item: Script, subs: list[n.Index | n.Fixed]) -> tuple[int | str | None, str | None]:
+        """The size subscript of ``I``, ``\\mathbf{1}``, ``\\mathbf{0}`` (``I_{ij}`` is a delta)."""
+        toks = self.s.tokens[item.start : item.end]
+        if len(toks) == 1 and toks[0].kind is TokenKind.NUMBER and toks[0].text.isdigit():
+            return int(toks[0].text), special
+        if len(toks) == 1 and (toks[0].kind is TokenKind.LETTER or toks[0].text in GREEK):
+            return toks[0].text, special
+        if special == "identity":
+            entries = self.sub_entries(item) or []
+            if len(entries) == 2 and all(e.node is not None for e in entries):
+                subs.extend(e.node for e in entries if e.node is not None)
+                return None, "identity-delta"
+        raise self.s.error(
+            f"the size '{self.s.text_of(item.span)}' at {self.s.where(item.span)} must be one number or letter",
+            item.span,
+        )
+
+    def _upper_indices(self, item: Script) -> list[n.Index | n.Fixed] | None:
+        """Up-down mode: a superscript of index letters only → upper indices; else None."""
+        entries = self.sub_entries(item, up=True, strict=False)
+        if not entries or not all(isinstance(e.node, n.Index) for e in entries):
+            # Drop the notes a rejected reading left behind.
+            while self.readings and self.readings[-1].span.start >= item.span.start and self.readings[-1].rule.startswith("subscript"):
+                self.readings.pop()
+            return None
+        return [e.node for e in entries if e.node is not None]
+
+    def _special_node(
+        self, special: str | None, base: Base, subs: tuple[n.Index | n.Fixed, ...],
+        size: int | str | None, named: bool, span: Span,
+    ) -> n.Node | None:
+        if special is None or named:
+            return None
+        if special == "delta" and len(subs) == 2:
+            self.note("kronecker-delta", span, "the Kronecker delta")
+            return n.Delta(subs, span)
+        if special == "epsilon" and len(subs) >= 2:
+            self.note("levi-civita", span, f"the Levi-Civita symbol of order {len(subs)}")
+            return n.LeviCivita(subs, span)
+        if special == "identity-delta":
+            self.note("identity", span, "I with two subscripts: the Kronecker delta")
+            return n.Delta(subs, span)
+        if special == "identity" and not subs:
+            self.note("identity", span, "the identity matrix")
+            return n.Identity(size, span)
+        if special in ("ones", "zero"):
+            self.note("ones-zero", span, "the ones vector" if special == "ones" else "the zero tensor")
+            return (n.Ones if special == "ones" else n.Zero)(size, span)
+        if special in ("e", "pi") and not subs:
+            self.note("constant", span, "Euler's number" if special == "e" else "the constant pi")
+            return n.Constant(special, span)
+        return None
