@@ -1,15 +1,37 @@
-"""Build a document's context and plan each display step (SPEC §4–§6)."""
+"""Build a document's context and plan each display step (SPEC §4–§6).
+
+The order of work: options and file-wide words from directives; dimension letters
+(sizes in ``\\mathbb{R}^{…}``, upper limits of sums, inline ``d = 3``); declarations and
+assumptions; every side of every chain read with the vocabulary; definitions (when a
+definition teaches the reader something — a function with an argument list, a special
+letter such as ``e`` or ``I`` defined as a symbol — every side is read again); shape
+inference over the whole file; then one :class:`StepPlan` per display step.
+"""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import dataclasses
+import logging
+from dataclasses import dataclass, field
+from typing import Hashable, Mapping, Sequence
 
+from ..checks import messages as mm
+from ..checks.indices import check_indices
 from ..diagnostics import Diagnostic
-from ..expressions.chains import Step, Structure
+from ..expressions.chains import Chain, Step, Structure, steps_of
+from ..expressions.errors import ParseError
 from ..expressions.nodes import Node
+from ..expressions.tokens import Token
 from ..settings import Settings
 from ..source import SourceText, Span
-from .model import Assumption, Definition, StepContext
+from ..verdicts import RelationKind
+from . import definitions as defs
+from .declarations import RowFacts, assumption_of, assumption_table, read_rows, set_letters
+from .inference import Inference, Unit, infer_shapes
+from .model import Assumption, AssumptionKind, Definition, StepContext, StepOptions, Vocabulary
+from .options import OptionTimeline, directive_vocabulary, inline_sizes, sum_limit_letters, with_options
+
+logger = logging.getLogger(__name__)
 
 
 @dataclass(frozen=True, slots=True)
@@ -45,9 +67,253 @@ class DocumentContext:
     plans: tuple[StepPlan, ...]
     """Every display step, in document order."""
     notes: tuple[ContextNote, ...] = ()
+    origins: Mapping[str, object] = field(default_factory=dict)
+    """Canonical name → where its shape came from (a :class:`stepcheck.checks._env.Origin`;
+    ``Origin.describe()`` says it in words), for ``stepcheck explain``."""
+
+
+# --------------------------------------------------------------------------- reading sides
+
+
+@dataclass(frozen=True, slots=True)
+class ReadChain:
+    """A chain with each side read (a tree, or the parse error)."""
+
+    chain: Chain
+    display: bool
+    options: StepOptions
+    vocabulary: Vocabulary
+    trees: tuple[Node | None, ...]
+    errors: tuple[tuple[str, Span] | None, ...]
+
+
+def _reader(vocabulary: Vocabulary):
+    from ..expressions.parser import parse_side  # the parser imports the context model
+
+    def read(tokens: Sequence[Token], source: SourceText) -> Node:
+        return parse_side(tokens, vocabulary, source)
+
+    return read
+
+
+def _read_chain(chain: Chain, display: bool, options: StepOptions, vocabulary: Vocabulary) -> ReadChain:
+    read = _reader(vocabulary)
+    trees: list[Node | None] = []
+    errors: list[tuple[str, Span] | None] = []
+    for side in chain.sides:
+        try:
+            trees.append(read(side.tokens, chain.source))
+            errors.append(None)
+        except ParseError as exc:
+            trees.append(None)
+            errors.append((exc.message, exc.span or side.span))
+    return ReadChain(chain, display, options, vocabulary, tuple(trees), tuple(errors))
+
+
+def _read_all(structure: Structure, timeline: OptionTimeline, vocabulary: Vocabulary) -> list[ReadChain]:
+    chains = [(c, True) for c in structure.chains] + [(c, False) for c in structure.inline_chains]
+    chains.sort(key=lambda item: defs.position_of(item[0], 1))
+    read: list[ReadChain] = []
+    for chain, display in chains:
+        options = timeline.at(chain.order)
+        read.append(_read_chain(chain, display, options, with_options(vocabulary, options)))
+    return read
+
+
+# --------------------------------------------------------------------------- vocabulary
+
+
+def _vocabulary(structure: Structure, base: Vocabulary) -> tuple[Vocabulary, dict[str, int]]:
+    """The base vocabulary plus dimension letters; and sizes fixed inline (``d = 3``)."""
+    letters = set_letters(structure.rows)
+    for row in structure.rows:
+        letters |= sum_limit_letters(row.tokens)
+    for chain in list(structure.chains) + list(structure.inline_chains):
+        for side in chain.sides:
+            letters |= sum_limit_letters(side.tokens)
+    letters -= base.functions | base.labels | base.index_letters
+    vocabulary = dataclasses.replace(base, dimensions=frozenset(letters))
+    sizes = {letter: size for letter, (size, _) in inline_sizes(structure.rows, vocabulary.dimensions).items()}
+    return vocabulary, sizes
+
+
+# --------------------------------------------------------------------------- definitions
+
+
+StepKey = tuple[int, int]
+"""(id of the chain, step number)."""
+
+
+def _key(chain: Chain, index: int) -> StepKey:
+    return (id(chain), index)
+
+
+def _collect_definitions(read: Sequence[ReadChain], sizes: Mapping[str, int]) -> dict[StepKey, Definition]:
+    """Every definition of the document, by the step that states it (SPEC §4)."""
+    found: dict[StepKey, Definition] = {}
+    defined_by_display: set[str] = set()
+    for item in read:
+        chain = item.chain
+        reader = _reader(item.vocabulary)
+        for index in range(1, len(chain.sides)):
+            lhs, rhs = item.trees[index - 1], item.trees[index]
+            if lhs is None or rhs is None:
+                continue
+            form = defs.definition_form(lhs, chain.sides[index - 1], chain.source, reader)
+            if form is None or not _is_definition(item, index, form, lhs, rhs, defined_by_display, sizes):
+                continue
+            found[_key(chain, index)] = Definition(
+                form.name, form.indices, form.params, rhs, chain.source,
+                chain.sides[index - 1].span, chain.order, item.display,
+            )
+            if item.display:
+                defined_by_display.add(form.name)
+    return found
+
+
+def _is_definition(
+    item: ReadChain, index: int, form: defs.Form, lhs: Node, rhs: Node, defined: set[str], sizes: Mapping[str, int]
+) -> bool:
+    relation = item.chain.relations[index - 1]
+    stated = assumption_of(lhs, rhs, relation.text)
+    if stated is not None and stated[1].value != "diagonal":
+        return False  # A = A^\top states a property; it defines nothing
+    if defs.defines_by_relation(relation.kind, form):
+        return True
+    if index != 1 or relation.kind is not RelationKind.EQUAL:
+        return False
+    if not item.display:
+        return not (form.name in item.vocabulary.dimensions and defs.is_bare(form))  # d = 3 fixes a size
+    return form.name not in defined
+
+
+def _taught(vocabulary: Vocabulary, definitions: Sequence[Definition]) -> Vocabulary:
+    """The vocabulary after definitions: argument-list names are functions; defined names
+    are ordinary tensors."""
+    functions = vocabulary.functions | {d.name for d in definitions if d.params}
+    tensors = vocabulary.tensors | {d.name for d in definitions}
+    return dataclasses.replace(vocabulary, functions=frozenset(functions), tensors=frozenset(tensors))
+
+
+# --------------------------------------------------------------------------- planning
+
+
+def _assumption(item: ReadChain, index: int) -> Assumption | None:
+    lhs, rhs = item.trees[index - 1], item.trees[index]
+    if lhs is None or rhs is None:
+        return None
+    relation = item.chain.relations[index - 1]
+    if relation.kind not in (RelationKind.EQUAL, RelationKind.ORDER, RelationKind.LOEWNER):
+        return None
+    stated = assumption_of(lhs, rhs, relation.text)
+    if stated is None:
+        return None
+    span = item.chain.sides[index - 1].span.join(item.chain.sides[index].span)
+    return Assumption(stated[0], stated[1], item.chain.source, span)
+
+
+def _units(read: Sequence[ReadChain], definitions: Mapping[StepKey, Definition]) -> list[Unit]:
+    units: list[Unit] = []
+    for item in read:
+        for index in range(1, len(item.chain.sides)):
+            lhs, rhs = item.trees[index - 1], item.trees[index]
+            if lhs is None or rhs is None:
+                continue
+            key = _key(item.chain, index)
+            definition = definitions.get(key)
+            units.append(
+                Unit(
+                    key, lhs, rhs, item.chain.source, item.options, item.display,
+                    definition.name if definition is not None else None,
+                    bool(definition is not None and definition.params),
+                )
+            )
+    return units
+
+
+def _cycle_finding(lhs: Node, rhs: Node, in_force: Mapping[str, Definition], span: Span) -> Diagnostic | None:
+    cycle = defs.find_cycle(defs.names_in(lhs) | defs.names_in(rhs), in_force)
+    if cycle is None:
+        return None
+    return mm.DefinitionCycle(span, (" → ".join(cycle),))
+
+
+@dataclass(frozen=True, slots=True)
+class _Document:
+    """What every step's plan draws on."""
+
+    scope: defs.Scope
+    definitions: Mapping[StepKey, Definition]
+    step_assumptions: Mapping[StepKey, Assumption]
+    assumptions: Mapping[str, frozenset[AssumptionKind]]
+    inference: Inference
+
+
+def _plan(item: ReadChain, index: int, doc: _Document) -> StepPlan:
+    chain = item.chain
+    step = Step(chain, index)
+    key = _key(chain, index)
+    lhs, rhs = item.trees[index - 1], item.trees[index]
+    error = item.errors[index - 1] or item.errors[index]
+    own = doc.definitions.get(key)
+    in_force = doc.scope.in_force(defs.position_of(chain, index), own)
+    context = StepContext(
+        options=item.options,
+        vocabulary=item.vocabulary,
+        shapes=doc.inference.table,
+        assumptions=doc.assumptions,
+        definitions=in_force,
+        no_sum=chain.no_sum,
+    )
+    findings: list[Diagnostic] = []
+    if lhs is not None and rhs is not None:
+        findings.extend(check_indices(lhs, rhs, context, chain.source))
+    findings.extend(doc.inference.findings.get(key, ()))
+    assumes = doc.step_assumptions.get(key)
+    findings.extend(d for a, d in doc.inference.misfits if a is assumes)
+    if lhs is not None and rhs is not None:
+        cycle = _cycle_finding(lhs, rhs, in_force, step.rhs.span)
+        if cycle is not None:
+            findings.append(cycle)
+    return StepPlan(step, lhs, rhs, error if (lhs is None or rhs is None) else None, context, own, assumes, tuple(findings))
 
 
 def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     """Read every side, collect declarations, assumptions and definitions, infer shapes,
-    and plan every display step."""
-    raise NotImplementedError  # checks helper
+    and plan every display step.
+
+    :param structure: the document's chains, rows and directives.
+    :param settings: the run's settings (options at the top of the file).
+    :returns: one plan per display step in document order, and notes about the document.
+    """
+    timeline = OptionTimeline(structure.directives, settings)
+    vocabulary, sizes = _vocabulary(structure, directive_vocabulary(structure.directives))
+    facts: RowFacts = read_rows(structure.rows, structure.directives, _reader(vocabulary), vocabulary)
+    vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | {d.name for d in facts.declarations})
+    read = _read_all(structure, timeline, vocabulary)
+    definitions = _collect_definitions(read, sizes)
+    taught = _taught(vocabulary, list(definitions.values()))
+    if taught != vocabulary:
+        vocabulary = taught
+        read = _read_all(structure, timeline, vocabulary)
+        definitions = _collect_definitions(read, sizes)
+    kept = set(map(id, defs.prefer_display(list(definitions.values()))))
+    definitions = {k: d for k, d in definitions.items() if id(d) in kept}
+    step_assumptions = {
+        _key(item.chain, index): found
+        for item in read
+        if item.display
+        for index in range(1, len(item.chain.sides))
+        if (found := _assumption(item, index)) is not None
+    }
+    assumptions = list(facts.assumptions) + list(step_assumptions.values())
+    inference = infer_shapes(_units(read, definitions), facts.declarations, assumptions, vocabulary.dimensions, sizes)
+    doc = _Document(defs.Scope(definitions.values()), definitions, step_assumptions, assumption_table(assumptions), inference)
+    plans = [
+        _plan(item, index, doc)
+        for item in read
+        if item.display
+        for index in range(1, len(item.chain.sides))
+    ]
+    notes = [ContextNote(n.source, n.span, n.message) for n in (*timeline.notes, *facts.notes, *inference.notes)]
+    return DocumentContext(tuple(plans), tuple(notes), dict(inference.origins))

@@ -1,0 +1,206 @@
+"""Definitions and their scope (SPEC §4).
+
+A step defines a symbol when its relation is a definition relation (``:=``,
+``\\triangleq`` …, ``\\equiv`` with a bare symbol on the left), or when it is the first
+step of a chain whose left side is a bare symbol — optionally with index subscripts
+(``b_i``) or an argument list (``L(\\mathbf{w})``) — that no earlier display defines.
+Inline math of that form ("where …") defines too; a display definition of the same
+symbol wins over inline ones.  Definitions are collected over the whole file first; a
+use takes the nearest preceding definition, else the nearest following one.
+"""
+
+from __future__ import annotations
+
+import bisect
+from dataclasses import dataclass
+from typing import Callable, Iterable, Mapping, Sequence
+
+from ..expressions import nodes as n
+from ..expressions.chains import Chain, Side
+from ..expressions.errors import ParseError
+from ..expressions.tokens import Token, TokenKind
+from ..source import SourceText
+from ..verdicts import RelationKind
+from .model import Definition
+from .options import symbol_name
+
+#: Reads one side's tokens into a tree.
+Reader = Callable[[Sequence[Token], SourceText], n.Node]
+
+#: A position in the document: (block order, offset of the step's left side).
+Position = tuple[int, int]
+
+
+@dataclass(frozen=True, slots=True)
+class Form:
+    """The left side of a definition: the symbol, its index subscripts, its parameters."""
+
+    name: str
+    indices: tuple[str, ...]
+    params: tuple[n.Node, ...]
+
+
+def _params(node: n.Node) -> tuple[n.Node, ...] | None:
+    """An argument list of bare symbols, or None."""
+    parts = node.factors if isinstance(node, n.Mul) else (node,)
+    if all(isinstance(p, n.Symbol) and not p.subs for p in parts):
+        return tuple(parts)
+    return None
+
+
+def _bracket_split(tokens: Sequence[Token]) -> tuple[list[Token], list[list[Token]]] | None:
+    """``L(\\mathbf{w}, b)`` as tokens → (``L``'s tokens, the argument tokens), when the
+    side ends with a parenthesis that opens right after the name."""
+    if len(tokens) < 3 or not tokens[-1].is_symbol(")"):
+        return None
+    depth = 0
+    for k in range(len(tokens) - 1, -1, -1):
+        token = tokens[k]
+        if token.is_symbol(")"):
+            depth += 1
+        elif token.is_symbol("("):
+            depth -= 1
+            if depth == 0:
+                break
+    else:
+        return None
+    head = [t for t in tokens[:k] if not t.is_command("\\left")]
+    inside = [t for t in tokens[k + 1 : -1] if not t.is_command("\\right")]
+    if not head or not inside:
+        return None
+    args: list[list[Token]] = [[]]
+    level = 0
+    for token in inside:
+        level += token.kind is TokenKind.OPEN or token.is_symbol("(")
+        level -= token.kind is TokenKind.CLOSE or token.is_symbol(")")
+        if level == 0 and token.is_symbol(","):
+            args.append([])
+        else:
+            args[-1].append(token)
+    return head, args
+
+
+def definition_form(tree: n.Node, side: Side, source: SourceText, read: Reader) -> Form | None:
+    """The defined symbol of a left side, or None when the side is not of a definition's form."""
+    if isinstance(tree, n.Symbol):
+        if all(isinstance(s, n.Index) for s in tree.subs):
+            return Form(tree.name, tuple(s.name for s in tree.subs), ())
+        return None
+    name = symbol_name(tree)
+    if name is not None:
+        return Form(name, (), ())
+    if isinstance(tree, n.Apply) and tree.user:
+        params = tuple(tree.args)
+        if all(isinstance(p, n.Symbol) for p in params):
+            return Form(tree.func, (), params)
+        return None
+    return _bracket_form(side, source, read)
+
+
+def _bracket_form(side: Side, source: SourceText, read: Reader) -> Form | None:
+    split = _bracket_split(side.tokens)
+    if split is None:
+        return None
+    head, args = split
+    try:
+        name_tree = read(head, source)
+        params = [read(a, source) for a in args]
+    except ParseError:
+        return None
+    if not isinstance(name_tree, n.Symbol) or name_tree.subs:
+        return None
+    if not params or not all(isinstance(p, n.Symbol) for p in params):
+        return None
+    return Form(name_tree.name, (), tuple(params))
+
+
+def is_bare(form: Form) -> bool:
+    return not form.indices and not form.params
+
+
+# --------------------------------------------------------------------------- scope
+
+
+def position_of(chain: Chain, step_index: int) -> Position:
+    """Where a step stands in document order."""
+    return (chain.order, chain.sides[step_index - 1].span.start)
+
+
+class Scope:
+    """Every definition of a document, and which one is in force where."""
+
+    def __init__(self, definitions: Iterable[Definition]):
+        self.by_name: dict[str, list[tuple[Position, Definition]]] = {}
+        for definition in definitions:
+            self.by_name.setdefault(definition.name, []).append(((definition.order, definition.span.start), definition))
+        for entries in self.by_name.values():
+            entries.sort(key=lambda item: item[0])
+
+    def in_force(self, position: Position, own: Definition | None = None) -> dict[str, Definition]:
+        """For each defined name, the nearest preceding definition, else the nearest
+        following one; never ``own`` (the step's own definition)."""
+        found: dict[str, Definition] = {}
+        for name, entries in self.by_name.items():
+            candidates = [item for item in entries if item[1] is not own]
+            if not candidates:
+                continue
+            keys = [item[0] for item in candidates]
+            k = bisect.bisect_left(keys, position)
+            found[name] = candidates[k - 1][1] if k > 0 else candidates[k][1]
+        return found
+
+
+def prefer_display(definitions: Sequence[Definition]) -> list[Definition]:
+    """Drop inline definitions of symbols that a display defines."""
+    displayed = {d.name for d in definitions if d.display}
+    return [d for d in definitions if d.display or d.name not in displayed]
+
+
+# --------------------------------------------------------------------------- cycles
+
+
+def names_in(node: n.Node) -> set[str]:
+    """The symbol and user-function names a tree uses."""
+    names: set[str] = set()
+    for item in node.walk():
+        if isinstance(item, n.Symbol):
+            names.add(item.name)
+        elif isinstance(item, n.Apply) and item.user:
+            names.add(item.func)
+    return names
+
+
+def find_cycle(roots: Iterable[str], definitions: Mapping[str, Definition]) -> list[str] | None:
+    """A cycle of definitions reachable from ``roots`` (``["w", "u", "w"]``), or None."""
+    state: dict[str, int] = {}  # 1 on the path, 2 done
+    path: list[str] = []
+
+    def visit(name: str) -> list[str] | None:
+        if state.get(name) == 1:
+            return path[path.index(name):] + [name]
+        if state.get(name) == 2 or name not in definitions:
+            return None
+        state[name] = 1
+        path.append(name)
+        for used in sorted(names_in(definitions[name].body)):
+            found = visit(used)
+            if found is not None:
+                return found
+        path.pop()
+        state[name] = 2
+        return None
+
+    for root in sorted(roots):
+        cycle = visit(root)
+        if cycle is not None:
+            return cycle
+    return None
+
+
+def defines_by_relation(kind: RelationKind, form: Form | None) -> bool:
+    """Whether a relation makes its step a definition whatever its place in the chain."""
+    if form is None:
+        return False
+    if kind is RelationKind.DEFINE:
+        return True
+    return kind is RelationKind.EQUIV and is_bare(form)
