@@ -15,6 +15,7 @@ import io
 import logging
 import os
 import pathlib
+import sys
 import time
 from dataclasses import dataclass
 from typing import Any, NoReturn, Sequence, TextIO
@@ -105,7 +106,7 @@ class StepcheckGroup(click.Group):
     def invoke(self, ctx: click.Context) -> Any:
         try:
             return super().invoke(ctx)
-        except (click.ClickException, click.exceptions.Exit, click.Abort):
+        except (click.ClickException, click.exceptions.Exit, click.Abort, BrokenPipeError):
             raise
         except SourceError as error:
             raise ToolError(str(error)) from error
@@ -345,5 +346,12 @@ def _isatty(stream: TextIO) -> bool:
 
 def main() -> None:
     """Entry point of the ``stepcheck`` script and of ``python -m stepcheck``."""
-    cli(prog_name="stepcheck")
+    try:
+        cli(prog_name="stepcheck")
+    except BrokenPipeError:
+        # The reader of standard output went away (``stepcheck check … | head``): stop quietly,
+        # and keep Python from failing again when it flushes stdout at exit.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        sys.exit(1)
 
