@@ -49,7 +49,11 @@ def _shape_text(shape: tuple[object, ...]) -> str:
 def shape_lines(node: n.Node, context: StepContext, source: SourceText, origins: Mapping[str, object], side: str) -> list[str]:
     """The side's shape, then each symbol's shape and where it came from."""
     shape, problems = expression_shape(node, context, source)
-    lines = [f"{side} side: shape {'unknown' if shape is None else _shape_text(shape)}"]
+    free, _ = classify(node, context, source, side)
+    if shape == () and free:
+        lines = [f"{side} side: index notation, one entry per value of {index_set(free)}"]
+    else:
+        lines = [f"{side} side: shape {'unknown' if shape is None else _shape_text(shape)}"]
     for name in _symbols(node):
         where = origins.get(name)
         said = where.describe() if hasattr(where, "describe") else "not known"  # type: ignore[union-attr]

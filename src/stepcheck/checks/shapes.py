@@ -175,8 +175,13 @@ class StepShapes:
         elif not self.dims.unify(known, dim):
             self._at(m.ShapeIndexRange, node, letter, self.dims.text(known), self.dims.text(dim))
 
-    def _known_scalar(self, val: Val) -> bool:
-        return val.shape is not None and self.env.is_scalar(val.shape)
+    def _explain_mismatch(self, a: Ids, b: Ids) -> None:
+        """Before reporting that two shapes differ, tie what can be tied, so the message
+        shows sizes (``n×n``) rather than unknowns (``_1×_1``).  Only in the reporting pass,
+        where nothing is learnt from it any more."""
+        if self.report and len(a) == len(b):
+            for x, y in zip(a, b):
+                self.dims.unify(x, y)
 
     # ------------------------------------------------------------------ leaves
 
@@ -321,6 +326,7 @@ class StepShapes:
             else:
                 self._at(m.ShapeScalarAdd, node, self._text(term.span), self.env.text(matrix.shape))
         elif not self.dims.unify_shapes(matrix.shape, val.shape):
+            self._explain_mismatch(matrix.shape, val.shape)
             self._at(m.ShapeAdd, node, self.env.text(matrix.shape), self.env.text(val.shape))
 
     def _mul(self, node: n.Node) -> Val:
@@ -386,7 +392,7 @@ class StepShapes:
             la, lb = self.env.vector_length(a.shape), self.env.vector_length(b.shape)
             if la is not None and lb is not None:
                 three = self.dims.const(3)
-                if not (self.dims.unify(la, three) and self.dims.unify(lb, three)):
+                if not (self.dims.unify(la, lb) and self.dims.unify(la, three)):
                     self._at(m.ShapeElementwise, node, "a cross product of 3-vectors", self.env.text(a.shape), self.env.text(b.shape))
                 return Val(a.shape)
         return self._times(a, b, node)
@@ -406,6 +412,7 @@ class StepShapes:
         if self.env.is_scalar(a.shape):
             return b
         if not self.env.is_scalar(b.shape) and not self.dims.unify_shapes(a.shape, b.shape):
+            self._explain_mismatch(a.shape, b.shape)
             self._at(m.ShapeElementwise, node, what, self.env.text(a.shape), self.env.text(b.shape))
         return Val(a.shape)
 
