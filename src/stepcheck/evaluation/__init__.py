@@ -5,17 +5,51 @@ This package is the only user of sympy and numpy; it is imported lazily.
 
 from __future__ import annotations
 
+import logging
+
 from ..context.model import StepContext
 from ..expressions.nodes import Node
 from ..results import Outcome
 from ..settings import Settings
-from ..verdicts import RelationKind
+from ..verdicts import RelationKind, Verdict
+
+logger = logging.getLogger(__name__)
+
+#: Under test, an unexpected error inside the evaluator is raised instead of being
+#: reported as ``unsupported`` (lenient for users, strict under test).
+RAISE_INTERNAL_ERRORS = False
 
 
-def decide(lhs: Node, rhs: Node, relation: RelationKind, context: StepContext, settings: Settings) -> Outcome:
+def decide(
+    lhs: Node,
+    rhs: Node,
+    relation: RelationKind,
+    context: StepContext,
+    settings: Settings,
+    relation_text: str | None = None,
+) -> Outcome:
     """Decide one checked relation between two read sides.
 
+    :param relation_text: the relation as written (``"\\\\le"``, ``">"``, ``"\\\\succeq"``);
+        needed for the direction of ``ORDER`` and ``LOEWNER`` relations.
     :returns: ``holds`` (with its method), ``fails`` (counterexample, hint),
-        ``unsupported`` (naming the construct) or ``shape-error``.
+        ``unsupported`` (naming the construct), ``shape-error`` or ``index-error``.
     """
-    raise NotImplementedError  # evaluation helper
+    from .deciding import Decider, outcome_of_error
+    from .values import EvaluationError
+
+    try:
+        return Decider(lhs, rhs, relation, context, settings, relation_text).run()
+    except EvaluationError as error:
+        return outcome_of_error(error)
+    except Exception as error:  # an evaluator bug must not stop the run (StepTimeout is a BaseException)
+        if RAISE_INTERNAL_ERRORS:
+            raise
+        logger.exception("the evaluator failed")
+        return Outcome(
+            Verdict.UNSUPPORTED,
+            message=f"the evaluator could not decide this step ({type(error).__name__}: {error})",
+        )
+
+
+__all__ = ["decide", "RAISE_INTERNAL_ERRORS"]

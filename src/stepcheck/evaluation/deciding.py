@@ -1,0 +1,267 @@
+"""Deciding one step: a cheap symbolic proof when every size is fixed, else the
+random-tensor identity test at two size assignments, then diagnosis of a failure.
+"""
+
+from __future__ import annotations
+
+import logging
+import random
+from typing import Iterator
+
+import sympy
+
+from ..context.model import StepContext
+from ..expressions import nodes as N
+from ..results import Outcome
+from ..settings import Settings
+from ..verdicts import Method, RelationKind, Verdict
+from . import compare
+from .analysis import Analysis, Key, analyse
+from .compare import Aligned, NeedFloat
+from .lower import Lowerer
+from .model import FLOAT_DPS, Env, Model
+from .sampling import Drawer, free_classes, size_assignments
+from .values import EvaluationError, IndexMismatch, OutOfDomain, ShapeMismatch, Unsupported
+
+logger = logging.getLogger(__name__)
+
+#: Draws that may fall outside a domain before a step is given up as unsupported.
+MAX_REDRAWS = 40
+#: Largest expression (sympy ``count_ops``) the symbolic proof attempts.
+PROOF_OPS = 400
+#: Largest expression ``simplify`` is tried on (it is slow beyond).
+SIMPLIFY_OPS = 80
+
+
+class Decider:
+    """One step being decided."""
+
+    def __init__(
+        self,
+        lhs: N.Node,
+        rhs: N.Node,
+        relation: RelationKind,
+        context: StepContext,
+        settings: Settings,
+        relation_text: str | None = None,
+    ):
+        self.lhs, self.rhs = lhs, rhs
+        self.relation = relation
+        self.relation_text = relation_text
+        self.context = context
+        self.settings = settings
+        self.analysis: Analysis = analyse(lhs, rhs, context)
+        self.mode = "float" if self.analysis.transcendental or self.analysis.big_power else "exact"
+        self.notes: list[str] = []
+        self._models: dict[tuple, Model] = {}
+
+    # ------------------------------------------------------------------ machinery
+
+    def model(self, sizes: dict[Key, int]) -> Model:
+        """The model of a size assignment (cached: derivatives are differentiated once)."""
+        key = tuple(sorted((repr(k), v) for k, v in sizes.items()))
+        if key not in self._models:
+            self._models[key] = Model(self.analysis, sizes)
+        return self._models[key]
+
+    def evaluate(self, model: Model, env: Env, rhs_env: Env | None = None) -> Aligned:
+        """Both sides at one draw, aligned."""
+        left = Lowerer(model, env)
+        right = left if rhs_env is None else Lowerer(model, rhs_env)
+        lv = left.lower(self.lhs)
+        rv = right.lower(self.rhs)
+        for note in left.notes + right.notes:
+            if note not in self.notes:
+                self.notes.append(note)
+        return compare.align(lv, rv, self.lhs, self.rhs)
+
+    def draws(
+        self,
+        model: Model,
+        rng: random.Random,
+        count: int,
+        mode: str,
+        small: bool = False,
+        extra: dict | None = None,
+        swap: tuple[str, str, tuple[int, int]] | None = None,
+    ) -> Iterator[tuple[Env, Aligned]]:
+        """``count`` evaluated draws (draws outside a domain are repeated).
+
+        :param swap: ``(input, side, axes)``: that side sees the input with two axes swapped.
+        :raises Unsupported: too many draws fell outside the domain.
+        """
+        drawer = Drawer(model, rng, small=small, extra=extra)
+        done = failures = 0
+        last = ""
+        while done < count:
+            env = drawer.draw(mode)
+            try:
+                if swap is None:
+                    aligned = self.evaluate(model, env)
+                else:
+                    aligned = self._evaluate_swapped(model, env, swap)
+                if mode == "exact":
+                    compare.exact_entries(aligned.lhs), compare.exact_entries(aligned.rhs)
+                else:
+                    compare.float_entries(aligned.lhs), compare.float_entries(aligned.rhs)
+            except OutOfDomain as e:
+                failures += 1
+                last = e.message
+                if failures > MAX_REDRAWS:
+                    raise Unsupported(f"no draw fell inside the domain of the step ({last})") from e
+                continue
+            done += 1
+            yield env, aligned
+
+    def _evaluate_swapped(self, model: Model, env: Env, swap: tuple[str, str, tuple[int, int]]) -> Aligned:
+        name, side, axes = swap
+        values = dict(env.values)
+        values[name] = values[name].swapaxes(*axes).copy()
+        swapped = Env(env.mode, values, env.functions, env.raw)
+        if side == "lhs":
+            return self.evaluate(model, swapped, env)
+        return self.evaluate(model, env, swapped)
+
+    def check(self, aligned: Aligned, mode: str) -> tuple[bool, float]:
+        """Whether the relation holds on one draw (and the relative error seen)."""
+        kind = self.relation
+        if kind in (RelationKind.EQUAL, RelationKind.EQUIV, RelationKind.DEFINE):
+            return compare.equal(aligned, mode)
+        if kind is RelationKind.NOT_EQUAL:
+            return compare.differs(aligned, mode), 0.0
+        strict, direction = self._order()
+        if kind is RelationKind.LOEWNER:
+            return compare.loewner_holds(aligned, mode, strict, direction), 0.0
+        return compare.order_holds(aligned, mode, strict, direction), 0.0
+
+    def _order(self) -> tuple[bool, int]:
+        table = compare.LOEWNER_RELATIONS if self.relation is RelationKind.LOEWNER else compare.ORDER_RELATIONS
+        text = (self.relation_text or "").strip()
+        if text not in table:
+            raise Unsupported(f"the direction of the relation {text or self.relation.value} is not known")
+        return table[text]
+
+    def trials_per_assignment(self, assignments: list) -> int:
+        trials = max(1, self.settings.trials)
+        return trials if len(assignments) > 1 else 2 * trials
+
+    # ------------------------------------------------------------------ deciding
+
+    def run(self) -> Outcome:
+        if self.relation is RelationKind.APPROX:
+            return Outcome(Verdict.SKIPPED, message="an approximate relation is reported, not checked")
+        if self.relation in (RelationKind.ORDER, RelationKind.LOEWNER):
+            self._order()  # an unknown direction is unsupported before any work
+        if self._provable():
+            proved = self._prove()
+            if proved:
+                return Outcome(Verdict.HOLDS, Method.SYMBOLIC, message=self._with_notes(proved))
+        for mode in dict.fromkeys([self.mode, "float"]):
+            try:
+                return self._sample(mode)
+            except NeedFloat:
+                self.mode = "float"
+        raise Unsupported("values that are neither rational nor floating point")  # pragma: no cover
+
+    def _sample(self, mode: str) -> Outcome:
+        rng = random.Random(self.settings.seed)
+        assignments = size_assignments(self.analysis)
+        per = self.trials_per_assignment(assignments)
+        count, worst = 0, 0.0
+        models = []
+        for sizes in assignments:
+            model = self.model(sizes)
+            models.append(model)
+            for env, aligned in self.draws(model, rng, per, mode):
+                ok, err = self.check(aligned, mode)
+                count += 1
+                worst = max(worst, err)
+                if not ok:
+                    return self._fails(model, env, aligned, mode)
+        return Outcome(Verdict.HOLDS, _method(mode), message=self._with_notes(self._held(mode, count, models, worst)))
+
+    def _held(self, mode: str, count: int, models: list[Model], worst: float) -> str:
+        sizes = " and ".join(m.sizes_text() for m in models)
+        where = f"at sizes {sizes}" if any(m.display_sizes() for m in models) else "(scalar inputs)"
+        if self.relation is RelationKind.NOT_EQUAL:
+            return f"the sides differed on every one of {count} random draws {where}"
+        if self.relation in (RelationKind.ORDER, RelationKind.LOEWNER):
+            how = "exactly" if mode == "exact" else "in floating point"
+            return f"held {how} on {count} random draws {where}; no counterexample found"
+        if mode == "exact":
+            return f"held exactly on {count} random draws {where}"
+        return (
+            f"held in floating point ({FLOAT_DPS} digits) on {count} random draws {where}; "
+            f"largest relative error {worst:.1e}"
+        )
+
+    def _with_notes(self, message: str) -> str:
+        return message + "".join(f"; note: {n}" for n in self.notes)
+
+    def _fails(self, model: Model, env: Env, aligned: Aligned, mode: str) -> Outcome:
+        from .hints import diagnose
+
+        hint, counterexample, message = diagnose(self, model, env, aligned, mode)
+        return Outcome(Verdict.FAILS, message=self._with_notes(message), hint=hint, counterexample=counterexample)
+
+    # ------------------------------------------------------------------ symbolic proof
+
+    def _provable(self) -> bool:
+        a = self.analysis
+        return (
+            self.relation in (RelationKind.EQUAL, RelationKind.EQUIV)
+            and not free_classes(a)
+            and not a.functions
+            and not a.big_power
+            and not any(spec.chain_variable for spec in a.inputs.values())
+        )
+
+    def _prove(self) -> str | None:
+        """A proof at the (only) sizes, or None when none was found cheaply."""
+        model = self.model({})
+        try:
+            lw = Lowerer(model, model.symbol_env())
+            aligned = compare.align(lw.lower(self.lhs), lw.lower(self.rhs), self.lhs, self.rhs)
+        except (Unsupported, OutOfDomain):
+            return None
+        if aligned.transposed:
+            return None
+        for x, y in zip(aligned.lhs.data.flat, aligned.rhs.data.flat):
+            if not _vanishes(x - y, rational=not self.analysis.transcendental):
+                return None
+        self.notes.extend(n for n in lw.notes if n not in self.notes)
+        shown = model.display_sizes()
+        if shown:
+            return "proved symbolically at the fixed sizes " + model.sizes_text()
+        return "proved symbolically"
+
+
+def _vanishes(d: sympy.Expr, rational: bool) -> bool:
+    if d == 0:
+        return True
+    if sympy.count_ops(d) > PROOF_OPS:
+        return False
+    if rational:
+        return sympy.cancel(sympy.expand(d)) == 0
+    if sympy.count_ops(d) > SIMPLIFY_OPS:
+        return False
+    return sympy.simplify(d) == 0
+
+
+def _method(mode: str) -> Method:
+    return Method.EXACT_SAMPLE if mode == "exact" else Method.FLOAT_SAMPLE
+
+
+#: Errors of the step itself and the verdict each gives.
+ERROR_VERDICTS: dict[type, Verdict] = {
+    Unsupported: Verdict.UNSUPPORTED,
+    ShapeMismatch: Verdict.SHAPE_ERROR,
+    IndexMismatch: Verdict.INDEX_ERROR,
+    OutOfDomain: Verdict.UNSUPPORTED,
+}
+
+
+def outcome_of_error(error: EvaluationError) -> Outcome:
+    """The outcome of a step that could not be decided as written."""
+    verdict = ERROR_VERDICTS.get(type(error), Verdict.UNSUPPORTED)
+    return Outcome(verdict, message=error.message, column=error.span.start if error.span is not None else None)

@@ -1,0 +1,288 @@
+"""Diagnosis of a failing step (SPEC §9): a small counterexample and the first hint
+that applies.
+
+Hints are found by re-testing cheap variants of the step on fresh draws at the
+failing sizes and at the other size assignment: the other side transposed (a
+layout), a constant ratio between the sides (a factor or a sign), a named matrix
+drawn symmetric, a size of 1, one tensor's indices swapped on one side.  The
+order is SPEC §9's, except that when the step is written in index notation the
+swapped-indices hint is tried before the symmetric one: swapping a square
+matrix's indices on one side also holds when it is symmetric, and the swap is the
+more precise diagnosis of what was written.
+"""
+
+from __future__ import annotations
+
+import random
+from typing import TYPE_CHECKING, Any, Callable
+
+import numpy as np
+import sympy
+
+from ..context.model import AssumptionKind, Layout
+from ..expressions import nodes as N
+from ..verdicts import RelationKind
+from . import compare
+from .compare import Aligned, NeedFloat
+from .model import Env, Model
+from .sampling import free_classes, inputs_json, size_assignments, small_assignments, to_json_array
+from .values import EvaluationError, Value
+
+if TYPE_CHECKING:
+    from .deciding import Decider
+
+#: Draws per size assignment when testing a variant.
+VARIANT_DRAWS = 3
+#: Assumptions under which a matrix is already symmetric (or structured so that the
+#: symmetric hint says nothing new).
+_STRUCTURED = frozenset({
+    AssumptionKind.SYMMETRIC, AssumptionKind.SPD, AssumptionKind.PSD, AssumptionKind.SKEW,
+    AssumptionKind.DIAGONAL, AssumptionKind.ORTHOGONAL,
+})
+
+Check = Callable[[Aligned], bool]
+
+
+def diagnose(decider: Decider, model: Model, env: Env, aligned: Aligned, mode: str) -> tuple[str | None, dict, str]:
+    """The hint, the counterexample and the message of a failing step."""
+    hint = None
+    if decider.relation in (RelationKind.EQUAL, RelationKind.EQUIV, RelationKind.DEFINE):
+        hint = _first_hint(decider, model, aligned, mode)
+    found = _smallest_counterexample(decider, mode)
+    cx_model, cx_env, cx_aligned = found if found is not None else (model, env, aligned)
+    return hint, counterexample(cx_model, cx_env, cx_aligned), _message(decider, cx_model, cx_aligned)
+
+
+def counterexample(model: Model, env: Env, aligned: Aligned) -> dict[str, Any]:
+    """The JSON-ready counterexample (SPEC §9)."""
+    rhs = aligned.rhs
+    if aligned.transposed:
+        rhs = compare._transpose(rhs)
+    data: dict[str, Any] = {
+        "sizes": model.display_sizes(),
+        "inputs": inputs_json(model, env),
+        "lhs": to_json_array(aligned.lhs.data),
+        "rhs": to_json_array(rhs.data),
+    }
+    if aligned.lhs.labels:
+        data["indices"] = list(aligned.lhs.labels)
+    return data
+
+
+def _message(decider: Decider, model: Model, aligned: Aligned) -> str:
+    where = f"at sizes {model.sizes_text()}" if model.display_sizes() else "at scalar inputs"
+    kind = decider.relation
+    if kind is RelationKind.NOT_EQUAL:
+        return f"the sides are equal on a draw {where}"
+    if kind is RelationKind.ORDER:
+        return f"the relation {decider.relation_text} fails on a draw {where}"
+    if kind is RelationKind.LOEWNER:
+        return f"the Loewner order {decider.relation_text} fails on a draw {where}"
+    if aligned.transposed:
+        shapes = f"{compare.shape_text(aligned.lhs.pos_shape)} and {compare.shape_text(aligned.rhs.pos_shape[::-1])}"
+        return f"the sides have transposed shapes ({shapes}) {where}"
+    return f"the sides differ {where}"
+
+
+# --------------------------------------------------------------------------- variants
+
+
+def _variant_holds(
+    decider: Decider,
+    assignments: list[dict],
+    mode: str,
+    check: Check,
+    extra: dict | None = None,
+    swap: tuple | None = None,
+) -> bool:
+    rng = random.Random(decider.settings.seed + 7)
+    try:
+        for sizes in assignments:
+            model = decider.model(sizes)
+            for _, aligned in decider.draws(model, rng, VARIANT_DRAWS, mode, extra=extra, swap=swap):
+                if not check(aligned):
+                    return False
+    except (EvaluationError, NeedFloat):
+        return False
+    return True
+
+
+def _assignments(decider: Decider, model: Model) -> list[dict]:
+    others = [s for s in size_assignments(decider.analysis) if s != model.sizes]
+    return [model.sizes] + others
+
+
+def _first_hint(decider: Decider, model: Model, aligned: Aligned, mode: str) -> str | None:
+    assignments = _assignments(decider, model)
+    tests: list[Callable[[], str | None]] = [
+        lambda: _transpose_hint(decider, assignments, aligned, mode),
+        lambda: _factor_hint(decider, assignments, aligned, mode),
+    ]
+    structural = [
+        lambda: _symmetric_hint(decider, model, assignments, mode),
+        lambda: _size_one_hint(decider, model, mode),
+        lambda: _swapped_hint(decider, model, assignments, mode),
+    ]
+    if _index_notation(decider):
+        structural = [structural[2], structural[0], structural[1]]
+    for test in tests + structural:
+        hint = test()
+        if hint is not None:
+            return hint
+    return None
+
+
+def _equal(mode: str) -> Check:
+    return lambda a: compare.equal(Aligned(a.lhs, a.rhs), mode)[0] and not a.transposed
+
+
+def _transpose_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mode: str) -> str | None:
+    lhs, rhs = aligned.lhs, aligned.rhs
+    if aligned.transposed:
+        check: Check = lambda a: a.transposed and compare.equal(Aligned(a.lhs, a.rhs), mode)[0]
+    elif len(lhs.pos_shape) == 2 and lhs.pos_shape[0] == lhs.pos_shape[1] and not lhs.labels:
+        check = lambda a: not a.transposed and compare.equal(Aligned(a.lhs, compare._transpose(a.rhs)), mode)[0]
+    elif len(lhs.labels) == 2 and not lhs.pos_shape:
+        check = lambda a: compare.equal(Aligned(a.lhs, _swap_labels(a.rhs)), mode)[0]
+        if _variant_holds(decider, assignments, mode, check):
+            return f"the sides agree after swapping the free indices {lhs.labels[0]} and {lhs.labels[1]} of one side"
+        return None
+    else:
+        return None
+    if not _variant_holds(decider, assignments, mode, check):
+        return None
+    return _layout_text(decider)
+
+
+def _swap_labels(v: Value) -> Value:
+    return Value(v.data, (v.labels[1], v.labels[0]) + v.labels[2:]).with_labels(v.labels)
+
+
+def _layout_text(decider: Decider) -> str:
+    left, right = _has_derivative(decider.lhs), _has_derivative(decider.rhs)
+    if left == right:
+        return "the sides agree after a transpose: a transpose is missing or extra"
+    layout = decider.context.options.layout
+    other = Layout.DENOMINATOR if layout is Layout.NUMERATOR else Layout.NUMERATOR
+    lhs_layout, rhs_layout = (layout, other) if left else (other, layout)
+    return (
+        f"the sides agree after a transpose: the left is in {lhs_layout.value} layout, "
+        f"the right in {rhs_layout.value} layout"
+    )
+
+
+def _has_derivative(node: N.Node) -> bool:
+    return any(isinstance(n, N.Derivative) and any(not v.target.subs for v in n.wrt) for n in node.walk())
+
+
+def _factor_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mode: str) -> str | None:
+    if aligned.transposed:
+        return None
+    try:
+        c = compare.ratio(aligned, mode)
+    except (EvaluationError, NeedFloat):
+        return None
+    if c is None:
+        return None
+    check: Check = lambda a: not a.transposed and _same_ratio(compare.ratio(a, mode), c)
+    if not _variant_holds(decider, assignments, mode, check):
+        return None
+    if c == -1:
+        return "the sides differ by a sign: the left side is −1 times the right side"
+    return f"the sides differ by a constant factor: the left side is {_number_text(c)} times the right side"
+
+
+def _same_ratio(a: Any, b: Any) -> bool:
+    if a is None:
+        return False
+    if isinstance(a, sympy.Rational) and isinstance(b, sympy.Rational):
+        return a == b
+    return abs(float(a) - float(b)) <= 1e-9 * max(1.0, abs(float(b)))
+
+
+def _number_text(c: Any) -> str:
+    if isinstance(c, sympy.Integer):
+        return str(int(c)).replace("-", "−")
+    if isinstance(c, sympy.Rational):
+        return f"{c.p}/{c.q}".replace("-", "−")
+    return f"{float(c):.6g}"
+
+
+def _square_inputs(decider: Decider, model: Model) -> list[tuple[str, tuple[int, int]]]:
+    out = []
+    analysis = decider.analysis
+    for name, spec in analysis.inputs.items():
+        if spec.chain_variable or spec.family is not None:
+            continue
+        axes = spec.axes
+        for a in range(len(axes)):
+            for b in range(a + 1, len(axes)):
+                if analysis.uf.find(axes[a]) == analysis.uf.find(axes[b]):
+                    out.append((name, (a, b)))
+    return out
+
+
+def _symmetric_hint(decider: Decider, model: Model, assignments: list[dict], mode: str) -> str | None:
+    for name, axes in _square_inputs(decider, model):
+        spec = decider.analysis.inputs[name]
+        if len(spec.axes) != 2 or spec.kinds & _STRUCTURED:
+            continue
+        extra = {name: frozenset({AssumptionKind.SYMMETRIC})}
+        if _variant_holds(decider, assignments, mode, _equal(mode), extra=extra):
+            return f"holds if {name} is symmetric ({name} is not assumed symmetric: write {name} = {name}^\\top if it is)"
+    return None
+
+
+def _size_one_hint(decider: Decider, model: Model, mode: str) -> str | None:
+    free = free_classes(decider.analysis)
+    if not free:
+        return None
+    names = {root: name for root, name in _names(model).items()}
+    for root in free:
+        sizes = dict(model.sizes)
+        sizes[root] = 1
+        if _variant_holds(decider, [sizes], mode, _equal(mode)):
+            return f"holds only when {names.get(root, 'a size')} = 1"
+    if len(free) > 1:
+        sizes = {root: 1 for root in free}
+        if _variant_holds(decider, [sizes], mode, _equal(mode)):
+            return "holds only when every size is 1"
+    return None
+
+
+def _names(model: Model) -> dict:
+    from .model import _class_names
+
+    return _class_names(model.analysis)
+
+
+def _swapped_hint(decider: Decider, model: Model, assignments: list[dict], mode: str) -> str | None:
+    for name, axes in _square_inputs(decider, model):
+        for side, word in (("rhs", "right"), ("lhs", "left")):
+            if _variant_holds(decider, assignments, mode, _equal(mode), swap=(name, side, axes)):
+                which = "indices" if len(decider.analysis.inputs[name].axes) == 2 else f"indices {axes[0] + 1} and {axes[1] + 1}"
+                return f"holds if the {which} of {name} are swapped on the {word} side"
+    return None
+
+
+def _index_notation(decider: Decider) -> bool:
+    return any(isinstance(n, N.Index) for side in (decider.lhs, decider.rhs) for n in side.walk())
+
+
+# --------------------------------------------------------------------------- counterexample
+
+
+def _smallest_counterexample(decider: Decider, mode: str) -> tuple[Model, Env, Aligned] | None:
+    """A failing draw at the smallest sizes, small integers first."""
+    rng = random.Random(decider.settings.seed + 11)
+    for sizes in small_assignments(decider.analysis):
+        model = decider.model(sizes)
+        for small, count in ((True, 4), (False, 2)):
+            try:
+                for env, aligned in decider.draws(model, rng, count, mode, small=small):
+                    ok, _ = decider.check(aligned, mode)
+                    if not ok:
+                        return model, env, aligned
+            except (EvaluationError, NeedFloat):
+                break
+    return None

@@ -1,0 +1,186 @@
+"""The value of a lowered expression at concrete sizes, and the errors of lowering.
+
+A :class:`Value` is a numpy object array of sympy scalars whose leading axes are
+*labelled* by free index letters (index notation) and whose trailing axes are
+*positional* (matrix notation).  Positional parts are scalars ``()``, matrices
+``(r, c)`` (a vector is a column ``(d, 1)``, a row ``(1, d)``) or, for a declared
+higher-order tensor used only with subscripts, ``(a, b, c)``.  A ``1×1`` positional
+part is always normalised to a scalar (SPEC §8: "a 1×1 result acts as a scalar").
+
+Identity, ones and zero written without a size are :class:`LazyValue` until an
+operation next to a sized value tells their size.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable, Iterable
+
+import numpy as np
+import sympy
+
+from ..source import Span
+
+ZERO = sympy.Integer(0)
+ONE = sympy.Integer(1)
+
+
+# --------------------------------------------------------------------------- errors
+
+
+class EvaluationError(Exception):
+    """A step that cannot be decided as written; carries a message and a span."""
+
+    def __init__(self, message: str, span: Span | None = None):
+        super().__init__(message)
+        self.message = message
+        self.span = span
+
+
+class Unsupported(EvaluationError):
+    """A construct the evaluator cannot decide (verdict ``unsupported``)."""
+
+
+class ShapeMismatch(EvaluationError):
+    """Operands or sides of incompatible shapes (verdict ``shape-error``)."""
+
+
+class IndexMismatch(EvaluationError):
+    """Free indices that do not agree (verdict ``index-error``)."""
+
+
+class OutOfDomain(EvaluationError):
+    """A draw fell outside a function's domain (a division by zero, a singular
+    matrix, a logarithm of a negative number): the draw is repeated."""
+
+
+# --------------------------------------------------------------------------- values
+
+
+def obj_array(shape: tuple[int, ...], fill: Callable[[tuple[int, ...]], object]) -> np.ndarray:
+    """An object array of the given shape filled by ``fill(index)``."""
+    out = np.empty(shape, dtype=object)
+    for idx in np.ndindex(*shape):
+        out[idx] = fill(idx)
+    return out
+
+
+def as_array(x: object) -> np.ndarray:
+    """A 0-d object array around a scalar (or the array itself)."""
+    if isinstance(x, np.ndarray):
+        return x
+    out = np.empty((), dtype=object)
+    out[()] = x
+    return out
+
+
+def shape_text(shape: tuple[int, ...]) -> str:
+    """``"3×2"``, ``"scalar"``."""
+    return "×".join(str(s) for s in shape) if shape else "scalar"
+
+
+@dataclass(frozen=True, slots=True, eq=False)
+class Value:
+    """A lowered value: labelled axes first, then positional axes."""
+
+    data: np.ndarray
+    """Object array of sympy scalars."""
+    labels: tuple[str, ...] = ()
+    """Free index letters of the leading axes, one per axis, all distinct."""
+
+    def __post_init__(self) -> None:
+        if len(set(self.labels)) != len(self.labels):  # pragma: no cover - internal invariant
+            raise AssertionError(f"repeated labels {self.labels}")
+
+    @property
+    def pos_shape(self) -> tuple[int, ...]:
+        """The positional (matrix-notation) shape."""
+        return tuple(self.data.shape[len(self.labels):])
+
+    @property
+    def label_sizes(self) -> dict[str, int]:
+        """Each label's range."""
+        return dict(zip(self.labels, self.data.shape[: len(self.labels)]))
+
+    @property
+    def is_scalar(self) -> bool:
+        """No labels and a scalar positional part."""
+        return not self.labels and not self.pos_shape
+
+    def scalar(self) -> object:
+        """The single entry of a scalar value."""
+        return self.data[()]
+
+    def blocks(self) -> Iterable[tuple[tuple[int, ...], np.ndarray]]:
+        """Per combination of labelled indices: that index tuple and its positional block."""
+        lead = self.data.shape[: len(self.labels)]
+        for idx in np.ndindex(*lead):
+            yield idx, as_array(self.data[idx])
+
+    def map(self, fn: Callable[[object], object]) -> Value:
+        """Apply ``fn`` to every entry."""
+        return Value(obj_array(self.data.shape, lambda i: fn(self.data[i])), self.labels)
+
+    def with_labels(self, order: tuple[str, ...]) -> Value:
+        """The same value with its labelled axes permuted to ``order``."""
+        if order == self.labels:
+            return self
+        perm = [self.labels.index(l) for l in order] + list(range(len(self.labels), self.data.ndim))
+        return Value(np.transpose(self.data, perm), order)
+
+    def relabel(self, mapping: dict[str, str]) -> Value:
+        """Rename labels (a mapping not covering a label leaves it)."""
+        return Value(self.data, tuple(mapping.get(l, l) for l in self.labels))
+
+
+def make_value(data: np.ndarray, labels: tuple[str, ...] = ()) -> Value:
+    """A value with its 1×1 positional part normalised to a scalar."""
+    pos = data.shape[len(labels):]
+    if len(pos) == 2 and pos == (1, 1):
+        data = data.reshape(data.shape[: len(labels)])
+    return Value(data, labels)
+
+
+def scalar_value(x: object) -> Value:
+    """A scalar value."""
+    return Value(as_array(sympy.sympify(x) if isinstance(x, int) else x))
+
+
+@dataclass(frozen=True, slots=True, eq=False)
+class LazyValue:
+    """``factor · I``, ``factor · 1`` or ``0`` whose size is not yet known.
+
+    ``kind`` is ``"eye"`` (square), ``"ones"`` or ``"zero"``; ``row`` marks a
+    transposed vector (``\\mathbf{1}^\\top``).  ``zero`` is shaped like whatever it
+    meets.
+    """
+
+    kind: str
+    factor: object = ONE
+    row: bool = False
+
+    def scaled(self, c: object) -> LazyValue:
+        return LazyValue(self.kind, self.factor * c, self.row)
+
+    def transposed(self) -> LazyValue:
+        return LazyValue(self.kind, self.factor, not self.row if self.kind != "eye" else False)
+
+    def materialize(self, shape: tuple[int, ...]) -> Value:
+        """This value at a concrete positional shape."""
+        f = self.factor
+        if self.kind == "eye":
+            if len(shape) != 2 or shape[0] != shape[1]:
+                raise ShapeMismatch(f"an identity matrix cannot have shape {shape_text(shape)}")
+            return make_value(obj_array(shape, lambda i: f if i[0] == i[1] else ZERO))
+        if self.kind == "zero":
+            return make_value(obj_array(shape, lambda i: ZERO))
+        return make_value(obj_array(shape, lambda i: f))
+
+    def vector_shape(self, n: int) -> tuple[int, ...]:
+        """The positional shape of this vector (or square matrix) at size ``n``."""
+        if self.kind == "eye":
+            return (n, n)
+        return (1, n) if self.row else (n, 1)
+
+
+AnyValue = Value | LazyValue
