@@ -33,6 +33,12 @@ def test_layout_applies_from_its_directive_on_with_one_note_at_the_first_switch(
     assert switches[0].source.position(switches[0].span.start).line == 4
 
 
+def test_a_layout_set_before_every_step_is_not_a_switch():
+    context = document_context("<!-- stepcheck: layout denominator -->\n\n$$\na = 1\n$$\n")
+    assert context.plans[0].context.options.layout is Layout.DENOMINATOR
+    assert not [n for n in context.notes if "layout" in n.message]
+
+
 def test_settings_give_the_options_at_the_top():
     context = document_context("$$\na = 1\n$$\n", layout=Layout.DENOMINATOR, summation=Summation.EXPLICIT)
     options = context.plans[0].context.options
@@ -129,6 +135,13 @@ def test_an_ambiguous_shape_is_a_scalar_with_one_note():
     assert context.plans[0].context.shapes.symbols["c"] == ()
 
 
+def test_a_lowercase_factor_written_before_a_matrix_is_a_scalar_without_a_note():
+    # common practice: scalar factors are written first (\lambda I, \mu U)
+    context = document_context("$X \\in \\mathbb{R}^{n\\times d}$\n\n$$\nY = \\lambda X\n$$\n")
+    assert context.plans[0].context.shapes.symbols["\\lambda"] == ()
+    assert not [n for n in context.notes if "ambiguous" in n.message]
+
+
 def test_numeric_subscripts_alone_make_independent_scalars():
     shapes = document_context("$$\ny = \\beta_1 x_1 + \\beta_2 x_2\n$$\n").plans[0].context.shapes
     assert "\\beta" not in shapes.symbols and "x" not in shapes.symbols
@@ -209,3 +222,47 @@ def test_context_of_a_latex_and_a_markdown_document(kind):
     text = f"$$\n{body}\n$$\n" if kind == "md" else f"\\begin{{equation}}\n{body}\n\\end{{equation}}\n"
     plan = document_context(text, kind).plans[0]
     assert plan.findings and plan.findings[0].message == "free indices differ: left {i}, right {j}"
+
+
+# --------------------------------------------------------------------------- robustness
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from stepcheck.diagnostics import Diagnostic  # noqa: E402
+
+FRAGMENTS = [
+    r"X \in \mathbb{R}^{n\times d}", r"\mathbf{w} \in \mathbb{R}^{d}", r"A = A^\top", r"\Sigma \succ 0",
+    r"a_i = A_{ij} b_j", r"c = x_i y_i z_i", r"X w", r"w^\top X", r"L(\mathbf{w}) = \|X\mathbf{w}\|^2",
+    r"\frac{\partial L}{\partial \mathbf{w}} = 2 X^\top X \mathbf{w}", r"d = 3", r"f = g", r"g = f",
+    r"\sum_{i=1}^{n} x_i", r"\epsilon_{ijk} a_j b_k = c_i", r"T^{i}{}_{j} v^j = u^i", r"\mathbf{x}_i \in \mathbb{R}^d",
+    r"\operatorname{tr}(X)", r"\nabla_{\mathbf{w}} L = 0", r"(AB)_{ij} = A_{ik} B_{kj}", r"e^{x} = y",
+    r"\det(A)^{-1} = \det(A^{-1})", r"Q^\top Q = I", r"\mathbf{1}^\top \mathbf{y} = 1", r"x_1 + \beta_0 = y",
+    r"q = \frac{a}{b} = c", r"u = \pm v", r"\sigma(z)(1 - \sigma(z)) = s",
+]
+DIRECTIVES = ["layout denominator", "indices up-down", "indices flat", "summation explicit", "zero-based",
+              "function f", "assume A spd", "index \\mu"]
+
+
+@st.composite
+def documents(draw):
+    parts = []
+    for _ in range(draw(st.integers(1, 6))):
+        kind = draw(st.sampled_from(["display", "inline", "directive"]))
+        if kind == "directive":
+            parts.append(f"<!-- stepcheck: {draw(st.sampled_from(DIRECTIVES))} -->")
+        else:
+            math = " = ".join(draw(st.lists(st.sampled_from(FRAGMENTS), min_size=1, max_size=2)))
+            parts.append(f"$$\n{math}\n$$" if kind == "display" else f"where ${math}$.")
+    return "\n\n".join(parts) + "\n"
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(documents())
+def test_any_mix_of_declarations_steps_and_directives_builds_a_context(text):
+    context = document_context(text)
+    for plan in context.plans:
+        assert (plan.lhs is not None and plan.rhs is not None) or plan.parse_error is not None
+        for finding in plan.findings:
+            assert isinstance(finding, Diagnostic) and finding.message
+            assert 0 <= finding.span.start <= finding.span.end <= len(plan.step.source.text)

@@ -43,6 +43,7 @@ PASSING = [
     ("fixed-components-never-count", r"x_1 y_1 = c"),
     ("function-of-contraction", r"h_i = \sigma(W_{ij} x_j)"),
     ("zero-right-side", r"\frac{\partial f}{\partial w_k} = 0"),
+    ("term-constant-along-bound-index", r"\sum_{i} y_i (\delta_{ij} - p_j) = y_j - p_j"),
 ]
 
 

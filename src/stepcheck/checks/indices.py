@@ -181,13 +181,16 @@ class IndexReader:
                 self._compare_terms(first, (term, free))
         if self.explicit or first is None:
             return list(union.values())
-        return first[1]
+        bound = [o for o in union.values() if self._is_bound(o.name) and o not in first[1]]
+        return first[1] + bound
 
     def _compare_terms(
         self, first: tuple[n.Node, list[Occurrence]], other: tuple[n.Node, list[Occurrence]]
     ) -> None:
-        names_a = [o.name for o in first[1]]
-        names_b = [o.name for o in other[1]]
+        # Inside an explicit sum a term may be constant along the bound index:
+        # \sum_i y_i (\delta_{ij} - p_j) is fine.
+        names_a = [o.name for o in first[1] if not self._is_bound(o.name)]
+        names_b = [o.name for o in other[1] if not self._is_bound(o.name)]
         if set(names_a) != set(names_b):
             span = other[0].span
             self.errors.append(

@@ -356,12 +356,15 @@ class StepShapes:
 
     def _learn_factor(self, a: Val, b: Val) -> None:
         """An unknown factor beside a known matrix: its shape matters (so, if it stays
-        unknown, a note says it was taken as a scalar); a bold one is taken to conform."""
+        unknown, a note says it was taken as a scalar); a bold one is taken to conform.
+        A plain lowercase symbol written before a matrix (``\\lambda X``) is read as a
+        scalar factor without a note: scalars are written first (common practice)."""
         for unknown, known, right in ((a, b, False), (b, a, True)):
             if unknown.ref is None or known.shape is None or self.env.is_scalar(known.shape):
                 continue
             entry = self.env.table[unknown.ref]
-            entry.ambiguous = True
+            if right or entry.bold or _is_capital(entry.name):
+                entry.ambiguous = True
             view = self.env.matrix(known.shape)
             if not entry.bold or view is None:
                 continue

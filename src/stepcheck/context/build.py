@@ -286,7 +286,7 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     :param settings: the run's settings (options at the top of the file).
     :returns: one plan per display step in document order, and notes about the document.
     """
-    timeline = OptionTimeline(structure.directives, settings)
+    timeline = OptionTimeline(structure.directives, settings, [c.order for c in structure.chains])
     vocabulary, sizes = _vocabulary(structure, directive_vocabulary(structure.directives))
     facts: RowFacts = read_rows(structure.rows, structure.directives, _reader(vocabulary), vocabulary)
     vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | {d.name for d in facts.declarations})

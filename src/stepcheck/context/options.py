@@ -69,7 +69,9 @@ OPTION_RULES = {
 class OptionTimeline:
     """The step options in force at each point of a document."""
 
-    def __init__(self, directives: Sequence[Directive], settings: Settings):
+    def __init__(self, directives: Sequence[Directive], settings: Settings, displays: Sequence[int] = ()):
+        """:param displays: document orders of the displays, so that a layout directive
+        is noted only when it switches between steps (before the first step it just sets it)."""
         self._orders: list[int] = []
         self._options: list[StepOptions] = [settings.initial_options()]
         self.notes: list[Note] = []
@@ -84,7 +86,8 @@ class OptionTimeline:
             except (ValueError, IndexError):
                 logger.debug("directive %s %s ignored: bad argument", directive.word.value, directive.args)
                 continue
-            if updated.layout is not current.layout and not switched:
+            mixes = any(o < directive.order for o in displays) and any(o > directive.order for o in displays)
+            if updated.layout is not current.layout and not switched and mixes:
                 switched = True
                 self.notes.append(Note(directive.source, directive.span, _switch_message(current.layout, updated.layout)))
             current = updated
