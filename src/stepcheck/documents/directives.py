@@ -139,6 +139,10 @@ def interpret(text: DirectiveText) -> Directive | MathDirective:
     def fail(message: str, start: int, end: int) -> DirectiveError:
         return DirectiveError(message, text.source, Span(base + start, base + max(end, start + 1)))
 
+    unbalanced = _unbalanced_brace(text.body)
+    if unbalanced is not None:
+        raise fail(f"unbalanced braces in the directive: this '{text.body[unbalanced]}' has no partner", unbalanced, unbalanced + 1)
+
     if not words:
         raise fail(f"empty stepcheck directive; known words: {_KNOWN_WORDS}", 0, 0)
     first, first_start, first_end = words[0]
@@ -198,6 +202,19 @@ def _check_assume(written, args, start, end, fail) -> None:  # type: ignore[no-u
         raise fail(f"'{written}': {problem}", name[1], name[2])
     if kind[0].lower() not in kinds:
         raise fail(f"unknown assumption kind '{kind[0]}'; known kinds: {', '.join(kinds)}", kind[1], kind[2])
+
+
+def _unbalanced_brace(body: str) -> int | None:
+    """Offset of a ``}`` with no ``{``, or of the last ``{`` never closed; None if balanced."""
+    opened: list[int] = []
+    for i, ch in enumerate(body):
+        if ch == "{" and (i == 0 or body[i - 1] != "\\"):
+            opened.append(i)
+        elif ch == "}" and (i == 0 or body[i - 1] != "\\"):
+            if not opened:
+                return i
+            opened.pop()
+    return opened[-1] if opened else None
 
 
 def _name_problem(name: str) -> str | None:

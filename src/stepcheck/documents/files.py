@@ -11,7 +11,7 @@ import fnmatch
 import logging
 import os
 import pathlib
-from typing import Iterator, Sequence
+from typing import Sequence
 
 from ..source import SourceError, SourceText
 
@@ -45,13 +45,15 @@ def _matches(display: str, patterns: Sequence[str]) -> bool:
     return any(pure.match(p) or fnmatch.fnmatch(display, p) for p in patterns)
 
 
-def _walk(directory: pathlib.Path) -> Iterator[pathlib.Path]:
-    """Documents under a directory, hidden folders (``.git``, ``.ipynb_checkpoints``) left out."""
+def _walk(directory: pathlib.Path) -> list[pathlib.Path]:
+    """Documents under a directory, sorted by their path inside it; hidden files and
+    folders (``.git``, ``.ipynb_checkpoints``) are left out, symbolic links to folders
+    are not followed."""
+    found: list[pathlib.Path] = []
     for folder, subfolders, names in os.walk(directory, followlinks=False):
-        subfolders[:] = sorted(d for d in subfolders if not d.startswith("."))
-        for name in sorted(names):
-            if not name.startswith(".") and kind_of(name) is not None:
-                yield pathlib.Path(folder, name)
+        subfolders[:] = [d for d in subfolders if not d.startswith(".")]
+        found.extend(pathlib.Path(folder, n) for n in names if not n.startswith(".") and kind_of(n) is not None)
+    return sorted(found, key=lambda p: p.relative_to(directory).parts)
 
 
 def discover(

@@ -251,14 +251,24 @@ class _Scanner:
         while True:
             found = closer.search(self.text, pos)
             if found is None or found.group("stop"):
-                tail = "the end of the file" if found is None else f"{found.group('stop')} (line {self.source.position(found.start()).line})"
-                self._problem(rf"\begin{{{name}}} is never closed: {tail} came first", Span(match.start(), match.end()))
-                return match.end()
+                return self._unclosed_environment(name, match, found)
             if found.group("close"):
                 kind = BlockKind.INLINE if name in INLINE_ENVIRONMENTS else BlockKind.DISPLAY
                 self._block(kind, name, Span(match.start(), found.end()), inner, found.start())
                 return found.end()
             pos = found.end()
+
+    def _unclosed_environment(self, name: str, match: re.Match[str], stop: re.Match[str] | None) -> int:
+        """Report an environment that is never closed; go on reading after the ``\\end``
+        that stopped it (it belongs to the broken block), or at the ``\\begin``."""
+        if stop is None:
+            tail = "the end of the file"
+        else:
+            tail = f"{stop.group('stop')} (line {self.source.position(stop.start()).line})"
+        self._problem(rf"\begin{{{name}}} is never closed: {tail} came first", Span(match.start(), match.end()))
+        if stop is not None and stop.group("stop").startswith("\\end") and "{document}" not in stop.group("stop"):
+            return stop.end()
+        return match.end()
 
     def _block(self, kind: BlockKind, environment: str, span: Span, inner_start: int, inner_end: int) -> None:
         excerpt = Excerpt.contiguous(self.source.text, inner_start, inner_end)

@@ -130,9 +130,14 @@ class Expander:
                 f"macro expansion nests deeper than {MAX_DEPTH} levels at {name} (does it call itself?)",
                 source, item.token.span,
             )
-        if expansions > MAX_EXPANSIONS or pending > 4 * MAX_TOKENS:
+        if expansions > MAX_EXPANSIONS:
             raise ExpansionError(
                 f"macro expansion does not end: more than {MAX_EXPANSIONS} expansions at {name}",
+                source, item.token.span,
+            )
+        if pending > MAX_TOKENS:
+            raise ExpansionError(
+                f"macro expansion makes this math longer than {MAX_TOKENS} tokens (at {name})",
                 source, item.token.span,
             )
 

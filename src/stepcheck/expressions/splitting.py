@@ -103,16 +103,15 @@ class _Builder:
                 self._math_directive(result)
                 continue
             self.directives.append(result)
-            if result.at_row_end:
-                home = _display_holding(displays, result)
-                if home is not None:
-                    switches.row_end.setdefault(home.order, []).append(result)
-                    continue
-            if result.word is DirectiveWord.SKIP:
+            home = _display_holding(displays, result) if result.at_row_end else None
+            if home is not None:
+                switches.row_end.setdefault(home.order, []).append(result)
+            if result.word is DirectiveWord.SKIP and home is None:
                 target = next((b for b in displays if b.order > result.order), None)
                 if target is not None:
                     switches.skip_blocks.add(target.order)
             elif result.word in (DirectiveWord.OFF, DirectiveWord.ON):
+                # Also from within a display: it then holds for the later blocks too.
                 switches.toggles.append((result.order, result.word is DirectiveWord.OFF))
         return switches
 
@@ -143,15 +142,18 @@ class _Builder:
                 f"this math is {len(excerpt.text)} characters long; the most read in one block is {MAX_BLOCK_CHARS}",
                 source, Span(at, at + 1),
             )
+        contiguous = len(excerpt.file_starts) == 1
+        base = excerpt.file_starts[0] if contiguous else 0
         try:
-            local = tokenize(excerpt.text, 0, None)
+            tokens = tokenize(excerpt.text, base, None)
         except MathSyntaxError as exc:
-            span = _to_file(excerpt, exc.span) if exc.span is not None else Span(excerpt.to_file(0), excerpt.to_file(0))
-            raise MathSyntaxError(exc.message, source, span) from exc
+            span = exc.span or Span(base, base)
+            raise MathSyntaxError(exc.message, source, span if contiguous else _to_file(excerpt, span)) from exc
         except RecursionError as exc:
             at = excerpt.to_file(0)
             raise MathSyntaxError("math nests too deeply to read", source, Span(at, at + 1)) from exc
-        tokens = [Token(t.kind, t.text, _to_file(excerpt, t.span), t.space_before) for t in local]
+        if not contiguous:
+            tokens = [Token(t.kind, t.text, _to_file(excerpt, t.span), t.space_before) for t in tokens]
         return self.expander.expand(tokens, order, source)
 
     def _block(self, block: MathBlock, switches: _Switches) -> None:
