@@ -266,3 +266,19 @@ def test_any_mix_of_declarations_steps_and_directives_builds_a_context(text):
         for finding in plan.findings:
             assert isinstance(finding, Diagnostic) and finding.message
             assert 0 <= finding.span.start <= finding.span.end <= len(plan.step.source.text)
+
+
+def test_a_size_letter_used_as_an_index_in_a_chain_is_an_index_there():
+    # "m pads" is a size, yet the epsilon-delta step sums over an index m
+    text = (
+        "$K \\in \\mathbb{S}^{m}$\n\n"
+        "$$\nv_i = \\epsilon_{ijk} r_j \\epsilon_{klm} r_l F_m\n$$\n\n"
+        "$$\nq = \\sum_{m} x_m\n$$\n\n"
+        "$$\ns = u_m\n$$\n"
+    )
+    first, second, third = document_context(text).plans
+    assert "m" not in first.context.vocabulary.dimensions
+    assert "m" not in second.context.vocabulary.dimensions
+    assert first.findings == () and second.findings == ()
+    assert "m" in third.context.vocabulary.dimensions  # u_m: the last component, a fixed entry
+    assert third.findings == ()

@@ -29,7 +29,7 @@ from . import definitions as defs
 from .declarations import RowFacts, assumption_of, assumption_table, read_rows, set_letters
 from .inference import Inference, Unit, infer_shapes
 from .model import Assumption, AssumptionKind, Definition, StepContext, StepOptions, Vocabulary
-from .options import OptionTimeline, directive_vocabulary, inline_sizes, sum_limit_letters, with_options
+from .options import OptionTimeline, directive_vocabulary, index_like_letters, inline_sizes, sum_limit_letters, with_options
 
 logger = logging.getLogger(__name__)
 
@@ -116,11 +116,22 @@ def _read_all(structure: Structure, timeline: OptionTimeline, vocabulary: Vocabu
     read: list[ReadChain] = []
     for chain, display in chains:
         options = timeline.at(chain.order)
-        read.append(_read_chain(chain, display, options, with_options(vocabulary, options)))
+        read.append(_read_chain(chain, display, options, with_options(_chain_vocabulary(chain, vocabulary), options)))
     return read
 
 
 # --------------------------------------------------------------------------- vocabulary
+
+
+def _chain_vocabulary(chain: Chain, vocabulary: Vocabulary) -> Vocabulary:
+    """A dimension letter that the chain plainly uses as an index is an index there."""
+    used = set()
+    for side in chain.sides:
+        used |= index_like_letters(side.tokens)
+    clash = used & vocabulary.dimensions
+    if not clash:
+        return vocabulary
+    return dataclasses.replace(vocabulary, dimensions=vocabulary.dimensions - clash)
 
 
 def _vocabulary(structure: Structure, base: Vocabulary) -> tuple[Vocabulary, dict[str, int]]:

@@ -196,6 +196,28 @@ def sum_limit_letters(tokens: Sequence[Token]) -> set[str]:
     return found
 
 
+def index_like_letters(tokens: Sequence[Token]) -> set[str]:
+    """Letters a chain plainly uses as indices: two or more letters in one subscript
+    (``\\epsilon_{klm}``, ``X_{im}``) or the index of a sum (``\\sum_{m}``, ``\\sum_{m=1}``).
+
+    A file may name a size ``m`` and also sum over an index ``m`` in some chain; in that
+    chain the letter is read as an index, not as the size.
+    """
+    found: set[str] = set()
+    for k, token in enumerate(tokens):
+        if token.kind is not TokenKind.SUB:
+            continue
+        arg = _argument(tokens, k + 1)
+        letters = [t for t in arg if t.kind is TokenKind.LETTER]
+        after_sum = k > 0 and tokens[k - 1].is_command("\\sum", "\\prod", "\\limits")
+        if after_sum and letters:
+            bound = arg[: next((j for j, t in enumerate(arg) if t.is_symbol("=")), len(arg))]
+            found.update(t.text for t in bound if t.kind is TokenKind.LETTER)
+        elif len(letters) >= 2 and all(t.kind is TokenKind.LETTER or t.is_symbol(",") for t in arg):
+            found.update(t.text for t in letters)
+    return found
+
+
 def inline_sizes(rows: Iterable[Row], dimensions: frozenset[str]) -> dict[str, tuple[int, Row]]:
     """Inline ``d = 3`` for a dimension letter: the size it fixes, and where."""
     sizes: dict[str, tuple[int, Row]] = {}
