@@ -140,3 +140,14 @@ def test_a_defined_symbol_has_its_bodys_shape():
     )
     plan = document_context(text).plans[0]
     assert plan.context.shapes.symbols["p"] == ("n",)
+
+
+def test_a_definition_that_contradicts_a_declaration_names_both_lines():
+    text = (
+        "$X \\in \\mathbb{R}^{n\\times d}$ and $Y \\in \\mathbb{R}^{n\\times d}$\n"  # 1
+        "\n"
+        "$$\nX = Y^\\top\n$$\n"                                                           # 4
+    )
+    plan = document_context(text).plans[0]
+    assert [type(f) for f in plan.findings] == [m.ShapeConflict]
+    assert plan.findings[0].message == "X is n×d on line 1 but d×n on line 4"

@@ -172,6 +172,11 @@ def test_sides_equal_after_a_transpose_are_left_to_the_layout_hint():
     assert step_errors(r"\frac{\partial f}{\partial w} = w") == []
 
 
+def test_sides_equal_after_a_transpose_without_a_derivative_are_a_shape_error():
+    found = step_errors(r"X^\top = N")
+    assert found and found[0].message == "the sides have different shapes: left (d×n), right (n×d)"
+
+
 def test_a_one_by_one_result_acts_as_a_scalar():
     assert step_errors(r"r^\top r = \lambda") == []
 

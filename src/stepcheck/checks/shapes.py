@@ -33,6 +33,10 @@ def _is_capital(name: str) -> bool:
     return bool(base) and base[0].isupper()
 
 
+def _has_derivative(*trees: n.Node) -> bool:
+    return any(isinstance(x, (n.Derivative, n.Gradient)) for tree in trees for x in tree.walk())
+
+
 def _is_minus_one(node: n.Node) -> bool:
     if isinstance(node, n.Number):
         return node.value == -1
@@ -73,12 +77,16 @@ class StepShapes:
             return UNKNOWN
         return handler(node)
 
-    def check_step(self, lhs: n.Node, rhs: n.Node, defines: str | None = None, params: bool = False) -> None:
+    def check_step(
+        self, lhs: n.Node, rhs: n.Node, defines: str | None = None, params: bool = False, assumes: bool = False
+    ) -> None:
         """Both sides of a step, and their agreement.
 
         :param defines: the symbol the step defines, if it is a definition.
         :param params: the definition has an argument list (``L(\\mathbf{w}) = …``): the
             left side is not read as an expression; the symbol takes the body's shape.
+        :param assumes: the step states an assumption (``A = A^\\top``): its sides are read
+            but not compared (whether the assumption fits the shape is checked apart).
         """
         if defines is not None and params:
             body = self.visit(rhs)
@@ -90,7 +98,9 @@ class StepShapes:
                 if not self.dims.unify_shapes(entry.shape, body.shape):
                     self._conflict(defines, entry, body.shape, rhs.span)
             return
-        self.compare(lhs, rhs, self.visit(lhs), self.visit(rhs))
+        left, right = self.visit(lhs), self.visit(rhs)
+        if not assumes:
+            self.compare(lhs, rhs, left, right)
 
     def compare(self, lhs: n.Node, rhs: n.Node, left: Val, right: Val) -> None:
         """The two sides of a step must have one shape (or agree after a transpose, which
@@ -111,8 +121,8 @@ class StepShapes:
         if self.dims.unify_shapes(left.shape, right.shape):
             return
         flipped = self.env.transposed(left.shape)
-        if flipped is not None and self.dims.unify_shapes(flipped, right.shape):
-            return  # equal after a transpose: a layout question, decided by sampling
+        if flipped is not None and _has_derivative(lhs, rhs) and self.dims.unify_shapes(flipped, right.shape):
+            return  # a derivative equal after a transpose: a layout question, the evaluator hints
         if isinstance(lhs, n.Symbol) and not lhs.subs:
             entry = self.env.table.get(lhs.name)
             if entry is not None and entry.origin is not None and entry.origin.line != self._line(rhs.span):

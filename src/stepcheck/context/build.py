@@ -223,7 +223,9 @@ def _assumption(item: ReadChain, index: int) -> Assumption | None:
     return Assumption(stated[0], stated[1], item.chain.source, span)
 
 
-def _units(read: Sequence[ReadChain], definitions: Mapping[StepKey, Definition]) -> list[Unit]:
+def _units(
+    read: Sequence[ReadChain], definitions: Mapping[StepKey, Definition], assumed: Mapping[StepKey, Assumption]
+) -> list[Unit]:
     units: list[Unit] = []
     for item in read:
         for index in range(1, len(item.chain.sides)):
@@ -237,6 +239,7 @@ def _units(read: Sequence[ReadChain], definitions: Mapping[StepKey, Definition])
                     key, lhs, rhs, item.chain.source, item.options, item.display,
                     definition.name if definition is not None else None,
                     bool(definition is not None and definition.params),
+                    key in assumed or _assumption(item, index) is not None,
                 )
             )
     return units
@@ -318,7 +321,7 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
         if (found := _assumption(item, index)) is not None
     }
     assumptions = list(facts.assumptions) + list(step_assumptions.values())
-    inference = infer_shapes(_units(read, definitions), facts.declarations, assumptions, vocabulary.dimensions, sizes)
+    inference = infer_shapes(_units(read, definitions, step_assumptions), facts.declarations, assumptions, vocabulary.dimensions, sizes)
     doc = _Document(defs.Scope(definitions.values()), definitions, step_assumptions, assumption_table(assumptions), inference)
     plans = [
         _plan(item, index, doc)

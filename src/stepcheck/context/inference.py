@@ -46,6 +46,8 @@ class Unit:
     """A display step (its errors are reported); inline steps only teach."""
     defines: str | None = None
     params: bool = False
+    assumes: bool = False
+    """The step states an assumption (``A = A^\\top``)."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -82,7 +84,7 @@ def infer_shapes(
     findings: dict[Hashable, tuple[Diagnostic, ...]] = {}
     for unit in units:
         checker = StepShapes(env, unit.source, unit.options, report=unit.report)
-        checker.check_step(unit.lhs, unit.rhs, unit.defines, unit.params)
+        checker.check_step(unit.lhs, unit.rhs, unit.defines, unit.params, unit.assumes)
         if checker.errors:
             findings[unit.key] = tuple(checker.errors)
     notes.extend(Note(source, span, message) for source, span, message in env.notes.values())
@@ -116,7 +118,9 @@ def _settle(env: ShapeEnv, units: Sequence[Unit]) -> None:
     for _ in range(MAX_PASSES):
         before = env.signature()
         for unit in units:
-            StepShapes(env, unit.source, unit.options, report=False).check_step(unit.lhs, unit.rhs, unit.defines, unit.params)
+            StepShapes(env, unit.source, unit.options, report=False).check_step(
+                unit.lhs, unit.rhs, unit.defines, unit.params, unit.assumes
+            )
         if env.signature() == before:
             return
     logger.debug("shape inference stopped after %d passes", MAX_PASSES)
