@@ -122,3 +122,19 @@ def num(value: int | Fraction) -> N.Number:
 def sym(name: str, *indices: str, bold: bool = False) -> N.Symbol:
     subs = tuple(N.Index(i, False, Span(0, 0)) for i in indices)
     return N.Symbol(name, subs, bold, Span(0, 0))
+
+
+def value_latex(text: str, sizes: dict[str, int], inputs: dict[str, Any], mode: str = "exact", **context: Any):
+    """The lowered value of one expression at given sizes and inputs (see
+    :func:`stepcheck.evaluation.describe.value_of`)."""
+    from stepcheck.evaluation.describe import value_of
+
+    ctx = make_context(**context)
+    return value_of(parse_latex(text, ctx.vocabulary), ctx, sizes, inputs, mode)
+
+
+def as_float_array(value) -> "Any":
+    """A lowered value's entries as a float numpy array (labelled axes first)."""
+    import numpy as np
+
+    return np.array([float(x) for x in value.data.flat], dtype=float).reshape(value.data.shape)

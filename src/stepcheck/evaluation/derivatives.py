@@ -204,11 +204,15 @@ def _kind(shape: tuple[int, ...]) -> str:
     return "m" if len(shape) == 2 else "t"
 
 
+#: A variable's kind by its declared number of axes (a 1×d matrix is still a matrix).
+_VARIABLE_KINDS = {0: "s", 1: "v", 2: "m"}
+
+
 def _arrange(block: np.ndarray, pf: tuple[int, ...], rem: tuple[int, ...], numerator: bool, v: N.Variable) -> np.ndarray:
     block = np.asarray(block, dtype=object)
-    fk, xk = _kind(pf), _kind(rem)
+    fk, xk = _kind(pf), _VARIABLE_KINDS.get(len(rem), "t")
     core_f = tuple(s for s in pf if s != 1) if fk == "v" else (() if fk == "s" else pf)
-    core_x = rem if xk != "s" else ()
+    core_x = rem
     j = block.reshape(core_f + core_x)
     if fk == "s" and xk == "s":
         return j

@@ -275,7 +275,8 @@ def _index_notation(decider: Decider) -> bool:
 def _smallest_counterexample(decider: Decider, mode: str) -> tuple[Model, Env, Aligned] | None:
     """A failing draw at the smallest sizes, small integers first."""
     rng = random.Random(decider.settings.seed + 11)
-    for sizes in small_assignments(decider.analysis):
+    candidates = small_assignments(decider.analysis)
+    for sizes in candidates + [s for s in size_assignments(decider.analysis) if s not in candidates]:
         model = decider.model(sizes)
         for small, count in ((True, 4), (False, 2)):
             try:

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from typing import Callable
 
+import mpmath
 import numpy as np
 import sympy
 from sympy.matrices.exceptions import NonInvertibleMatrixError
@@ -210,9 +211,10 @@ def norm(block: np.ndarray, kind: str | None, sqrt: Callable[[object], object]) 
     if kind == "2":
         if is_symbolic(block):
             raise Unsupported("the spectral norm \\|A\\|_2 of a matrix inside a derivative")
-        gram = _matrix(block).T * _matrix(block)
-        values = [complex(sympy.N(v, 30)).real for v in gram.eigenvals(multiple=True)]
-        return sqrt(sympy.Float(max(values), 30))
+        with mpmath.workdps(30):
+            m = mpmath.matrix([[mpmath.mpf(sympy.Float(x, 30)._mpf_) for x in row] for row in block.tolist()])
+            largest = max(mpmath.svd_r(m, compute_uv=False))
+            return sympy.Float(largest, 30)
     raise Unsupported(f"the norm \\|·\\|_{kind}")
 
 

@@ -242,7 +242,7 @@ class Lowerer:
                 labels.append(sub.name)
             else:
                 index.append(self._component(sub, native.shape[axis], node))
-        data = native[tuple(index)]
+        data = as_array(native[tuple(index)])
         rest = data.ndim - len(labels)
         value = self._merge_repeated(data, labels, st)
         if positional and rest == 1:
@@ -273,7 +273,7 @@ class Lowerer:
         for axis in range(len(pos)):
             if axis not in axes:
                 index[lead + axis] = 0
-        data = value.data[tuple(index)]
+        data = as_array(value.data[tuple(index)])
         return self._merge_repeated(data, list(value.labels) + new_labels, st)
 
     def _component(self, sub: Any, size: int, node: N.Node) -> int:
@@ -576,7 +576,8 @@ class Lowerer:
                 return Value(as_array(linalg.sum_of_squares(inner.data) ** (e / 2)))
         base = self.lower_value(node.base, st)
         pos = base.pos_shape
-        if not pos:
+        if not pos or (isinstance(node.base, N.Apply) and node.base.func in ELEMENTWISE):
+            # a power of an elementwise function (\tanh^2(\mathbf{z})) is elementwise
             return base.map(lambda x: self._power(x, e, node))
         if len(pos) == 2 and pos[0] == pos[1]:
             if not (isinstance(e, sympy.Integer) or (getattr(e, "is_integer", False) and e.is_number)):

@@ -18,6 +18,7 @@ from a ``random.Random`` owned by the caller (never the global state).
 
 from __future__ import annotations
 
+import itertools
 import random
 from typing import Any, Iterable
 
@@ -69,8 +70,7 @@ def small_assignments(analysis: Analysis, limit: int = 6) -> list[dict[Key, int]
     if not free:
         return [{}]
     if len(free) > 3:
-        return []
-    import itertools
+        return [dict.fromkeys(free, 1), dict.fromkeys(free, 2)]
 
     combos = sorted(itertools.product(range(1, 4), repeat=len(free)), key=lambda c: (sum(c), max(c), c))
     return [dict(zip(free, c)) for c in combos[:limit]]
