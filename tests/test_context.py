@@ -161,6 +161,14 @@ def test_a_bold_undeclared_symbol_is_a_vector():
     assert shapes.symbols["b"] == ("m",)
 
 
+def test_a_plain_capital_right_of_a_matrix_is_a_conforming_matrix():
+    text = "$X \\in \\mathbb{R}^{n\\times d}$\n\n$$\nq = \\operatorname{tr}(X^\\top B X)\n$$\n"
+    context = document_context(text)
+    assert context.plans[0].context.shapes.symbols["B"] == ("n", "n")
+    assert context.plans[0].findings == ()
+    assert not [n for n in context.notes if "ambiguous" in n.message]
+
+
 def test_levi_civita_fixes_the_range_to_three():
     text = "$\\mathbf{a}, \\mathbf{b} \\in \\mathbb{R}^{k}$\n\n$$\nc_i = \\epsilon_{ijk} a_j b_k\n$$\n"
     shapes = document_context(text).plans[0].context.shapes

@@ -373,12 +373,12 @@ class StepShapes:
             if unknown.ref is None or known.shape is None or self.env.is_scalar(known.shape):
                 continue
             entry = self.env.table[unknown.ref]
-            if right or entry.bold or _is_capital(entry.name):
+            capital = _is_capital(entry.name)
+            if right or entry.bold or capital:
                 entry.ambiguous = True
             view = self.env.matrix(known.shape)
-            if not entry.bold or view is None:
-                continue
-            capital = _is_capital(entry.name)
+            if view is None or not (entry.bold or (capital and right)):
+                continue  # a plain capital right of a matrix (X^T B X) is a conforming matrix
             if right:  # A x: x has as many rows as A has columns
                 shape = (view[1], self.dims.fresh()) if capital else (view[1],)
             elif capital:  # B A: B has as many columns as A has rows
@@ -508,8 +508,8 @@ class StepShapes:
         if arg.shape is None:
             self.expect(tree, (self.dims.fresh(),))
             return UNKNOWN
-        if self.env.vector_length(arg.shape) is None:
-            self._operand(tree, "softmax", "a vector", arg.shape)
+        if self.env.matrix(arg.shape) is None:  # a matrix is read row by row (attention scores)
+            self._operand(tree, "softmax", "a vector or a matrix", arg.shape)
         return Val(arg.shape)
 
     def _square_to_scalar(self, node: n.Apply, tree: n.Node, arg: Val) -> Val:
