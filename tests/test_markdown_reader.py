@@ -21,6 +21,11 @@ STEP_CASES = [
         ["doc.md:3:10 1.1 p = q", "doc.md:4:5 1.2 q = r"],
     ),
     (
+        "block-quote-with-greater-than-in-math",
+        "> $$\n> a > b\n> $$\n",
+        ["doc.md:2:7 1.1 a > b"],
+    ),
+    (
         "nested-block-quote",
         "> > $$\n> > a = b\n> > $$\n",
         ["doc.md:2:9 1.1 a = b"],

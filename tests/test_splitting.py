@@ -205,3 +205,44 @@ def test_side_spans_run_from_first_to_last_token() -> None:
 def test_chain_order_is_the_block_document_order() -> None:
     s = structure("$a$ then \\[ p = q \\] then \\[ r = t \\]\n")
     assert [c.order for c in s.chains] == [1, 2]
+
+
+def test_sides_hold_no_alignment_spacing_labels_or_comments() -> None:
+    s = structure(
+        "\\begin{align}\n  a &= \\, b \\label{eq:a} \\tag{3} \\\\ % a comment\n"
+        "    &= \\left( c \\right) \\displaystyle \\notag\n\\end{align}\n"
+    )
+    (chain,) = s.chains
+    assert [[t.text for t in side.tokens] for side in chain.sides] == [["a"], ["b"], ["\\left", "(", "c", "\\right", ")"]]
+
+
+# -- a property over many small generated displays ------------------------------------------
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from stepcheck.expressions.chains import steps_of  # noqa: E402
+from stepcheck.expressions.tokens import TokenKind  # noqa: E402
+
+_PIECES = st.sampled_from(
+    ["a", "x_i", "\\frac{p}{q}", "(u + v)", "\\left( w \\right)", "=", "&=", "\\le", ":=", "+", "-", "\\cdot",
+     "\\quad", "\\text{so}", ",", "\\,", "\\\\", "\\\\\n", "\\overset{(a)}{=}", "\\|y\\|^2", "\\begin{pmatrix} 1 & 2 \\end{pmatrix}"]
+)
+
+
+@settings(max_examples=80, deadline=None)
+@given(st.lists(_PIECES, min_size=1, max_size=14))
+def test_every_step_points_at_its_right_side_as_written(pieces: list[str]) -> None:
+    text = "\\begin{align}\n" + " ".join(pieces) + "\n\\end{align}\n"
+    s = structure(text)
+    for chain in s.chains:
+        assert len(chain.relations) == len(chain.sides) - 1 == len(chain.skipped)
+        for step in steps_of(chain):
+            first = step.rhs.tokens[0]
+            start = step.position_offset
+            assert all(side.tokens for side in chain.sides)
+            if first.kind not in (TokenKind.TEXT, TokenKind.OPEN, TokenKind.BEGIN):
+                assert text.startswith(first.text, start)
+            assert step.lhs.span.end <= step.relation.span.start <= step.relation.span.end <= start
+    for entry in s.unreadable:
+        assert 0 <= entry.span.start < len(text)

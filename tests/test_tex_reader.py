@@ -40,6 +40,11 @@ BLOCK_CASES = [
     ("minted-blanked", "\\begin{minted}{python}a = '$$'\\end{minted}$q$", [("inline", "$", "q")]),
     ("comment-env-blanked", "\\begin{comment}\\[ a = b \\]\\end{comment}$r$", [("inline", "$", "r")]),
     ("verb-blanked", "\\verb|$x$| and \\verb*+\\[+ then $s$", [("inline", "$", "s")]),
+    ("iffalse-hidden", "\\iffalse \\[ a = b \\] \\fi $c$", [("inline", "$", "c")]),
+    ("iffalse-nested", "\\iffalse \\ifx a b $x$ \\fi $y$ \\fi $c$", [("inline", "$", "c")]),
+    ("iffalse-with-iff-inside", "\\iffalse $a \\iff b$ \\fi $c$", [("inline", "$", "c")]),
+    ("iffalse-never-closed-hides-nothing", "\\iffalse $e$", [("inline", "$", "e")]),
+    ("nothing-after-end-document", "$a$ \\end{document} $b$", [("inline", "$", "a")]),
 ]
 
 

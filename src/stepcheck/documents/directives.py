@@ -107,126 +107,135 @@ class MathDirective:
     order: int
 
 
-def _words(body: str) -> list[tuple[str, int, int]]:
-    """The words of a body with their offsets: split at white space and commas outside braces."""
-    words: list[tuple[str, int, int]] = []
+@dataclass(frozen=True, slots=True)
+class _Word:
+    """One word of a directive body and where it stands in the body."""
+
+    text: str
+    start: int
+    end: int
+
+
+def _words(body: str) -> list[_Word]:
+    """The words of a body: split at white space and commas outside braces."""
+    words: list[_Word] = []
     depth, start = 0, None
     for i, ch in enumerate(body + " "):
-        separator = depth == 0 and (ch.isspace() or ch == ",")
-        if separator:
+        if depth == 0 and (ch.isspace() or ch == ","):
             if start is not None:
-                words.append((body[start:i], start, i))
+                words.append(_Word(body[start:i], start, i))
                 start = None
             continue
         if start is None:
             start = i
         depth += {"{": 1, "}": -1}.get(ch, 0)
-    if start is not None:  # an unclosed brace ran to the end
-        words.append((body[start:], start, len(body)))
     return words
-
-
-def interpret(text: DirectiveText) -> Directive | MathDirective:
-    """Interpret one directive comment.
-
-    :raises DirectiveError: an empty body, an unknown word, or a bad argument; the
-        message names the word and lists what is allowed.
-    :returns: a word directive, or the body as math for the context stage.
-    """
-    words = _words(text.body)
-    base = text.span.start
-
-    def fail(message: str, start: int, end: int) -> DirectiveError:
-        return DirectiveError(message, text.source, Span(base + start, base + max(end, start + 1)))
-
-    unbalanced = _unbalanced_brace(text.body)
-    if unbalanced is not None:
-        raise fail(f"unbalanced braces in the directive: this '{text.body[unbalanced]}' has no partner", unbalanced, unbalanced + 1)
-
-    if not words:
-        raise fail(f"empty stepcheck directive; known words: {_KNOWN_WORDS}", 0, 0)
-    first, first_start, first_end = words[0]
-    word = _WORDS.get(first.lower())
-    if word is None:
-        if any(ch in _MATH_MARKS for ch in text.body):
-            return MathDirective(text.body, text.source, text.span, text.order)
-        raise fail(
-            f"unknown stepcheck directive '{first}'; known words: {_KNOWN_WORDS} "
-            "(or math such as X \\in \\mathbb{R}^{n\\times d})",
-            first_start, first_end,
-        )
-    args = words[1:]
-    _check_arguments(word, first, args, first_start, first_end, fail)
-    values = tuple(a.lower() if word in _CHOICES or word is DirectiveWord.ASSUME and k == 1 else a for k, (a, _, _) in enumerate(args))
-    return Directive(word, values, text.source, text.span, text.order, text.at_row_end)
-
-
-_WORDS = {word.value: word for word in DirectiveWord}
-
-
-def _check_arguments(word, written, args, start, end, fail) -> None:  # type: ignore[no-untyped-def]
-    """Raise ``fail(...)`` when the arguments do not fit the word (see the tables above)."""
-    if word in _BARE:
-        if args:
-            raise fail(f"'{written}' takes no argument, found '{args[0][0]}'", args[0][1], args[-1][2])
-        return
-    if word in _CHOICES:
-        choices = _CHOICES[word]
-        if len(args) != 1 or args[0][0].lower() not in choices:
-            found = f"'{' '.join(a for a, _, _ in args)}'" if args else "nothing"
-            where = (args[0][1], args[-1][2]) if args else (start, end)
-            raise fail(f"'{written}' takes one of {', '.join(choices)}; found {found}", *where)
-        return
-    if word is DirectiveWord.ASSUME:
-        _check_assume(written, args, start, end, fail)
-        return
-    fewest, most, what = _NAMES[word]
-    if len(args) < fewest or (most is not None and len(args) > most):
-        where = (args[most][1], args[-1][2]) if args and most is not None and len(args) > most else (start, end)
-        raise fail(f"'{written}' takes {what}; found {len(args)} argument(s)", *where)
-    for name, name_start, name_end in args:
-        problem = _name_problem(name)
-        if problem:
-            raise fail(f"'{written}': {problem}", name_start, name_end)
-
-
-def _check_assume(written, args, start, end, fail) -> None:  # type: ignore[no-untyped-def]
-    kinds = [kind.value for kind in AssumptionKind]
-    if len(args) != 2:
-        where = (args[0][1], args[-1][2]) if args else (start, end)
-        raise fail(f"'{written}' takes a name and a kind (assume NAME KIND, KIND one of {', '.join(kinds)}); "
-                   f"found {len(args)} argument(s)", *where)
-    name, kind = args
-    problem = _name_problem(name[0])
-    if problem:
-        raise fail(f"'{written}': {problem}", name[1], name[2])
-    if kind[0].lower() not in kinds:
-        raise fail(f"unknown assumption kind '{kind[0]}'; known kinds: {', '.join(kinds)}", kind[1], kind[2])
 
 
 def _unbalanced_brace(body: str) -> int | None:
     """Offset of a ``}`` with no ``{``, or of the last ``{`` never closed; None if balanced."""
     opened: list[int] = []
     for i, ch in enumerate(body):
-        if ch == "{" and (i == 0 or body[i - 1] != "\\"):
+        escaped = i > 0 and body[i - 1] == "\\"
+        if ch == "{" and not escaped:
             opened.append(i)
-        elif ch == "}" and (i == 0 or body[i - 1] != "\\"):
+        elif ch == "}" and not escaped:
             if not opened:
                 return i
             opened.pop()
     return opened[-1] if opened else None
 
 
-def _name_problem(name: str) -> str | None:
-    """Why a name written as LaTeX cannot be one (unbalanced braces, math delimiters), or None."""
-    depth = 0
-    for ch in name:
-        depth += {"{": 1, "}": -1}.get(ch, 0)
-        if depth < 0:
-            break
-    if depth != 0:
-        return f"unbalanced braces in the name '{name}'"
-    bad = sorted(set(name) & set("$%&#"))
-    if bad:
-        return f"the name '{name}' contains {' '.join(bad)}"
-    return None
+def interpret(text: DirectiveText) -> Directive | MathDirective:
+    """Interpret one directive comment.
+
+    :raises DirectiveError: an empty body, unbalanced braces, an unknown word, or a bad
+        argument; the message names the word and lists what is allowed, the span is
+        the offending word.
+    :returns: a word directive, or the body as math for the context stage.
+    """
+    return _Interpreter(text).run()
+
+
+_WORDS = {word.value: word for word in DirectiveWord}
+_ASSUMPTION_KINDS = tuple(kind.value for kind in AssumptionKind)
+
+
+class _Interpreter:
+    """Checks one directive body against the tables above."""
+
+    def __init__(self, text: DirectiveText):
+        self.text = text
+        self.words = _words(text.body)
+
+    def fail(self, message: str, start: int, end: int) -> DirectiveError:
+        base = self.text.span.start
+        return DirectiveError(message, self.text.source, Span(base + start, base + max(end, start + 1)))
+
+    def fail_at(self, message: str, words: list[_Word], fallback: _Word) -> DirectiveError:
+        """An error spanning ``words`` (or ``fallback`` when there are none)."""
+        if words:
+            return self.fail(message, words[0].start, words[-1].end)
+        return self.fail(message, fallback.start, fallback.end)
+
+    def run(self) -> Directive | MathDirective:
+        body = self.text.body
+        unbalanced = _unbalanced_brace(body)
+        if unbalanced is not None:
+            raise self.fail(f"unbalanced braces in the directive: this '{body[unbalanced]}' has no partner", unbalanced, unbalanced + 1)
+        if not self.words:
+            raise self.fail(f"empty stepcheck directive; known words: {_KNOWN_WORDS}", 0, 0)
+        first, args = self.words[0], self.words[1:]
+        word = _WORDS.get(first.text.lower())
+        if word is None:
+            if any(ch in _MATH_MARKS for ch in body):
+                return MathDirective(body, self.text.source, self.text.span, self.text.order)
+            raise self.fail(
+                f"unknown stepcheck directive '{first.text}'; known words: {_KNOWN_WORDS} "
+                "(or math such as X \\in \\mathbb{R}^{n\\times d})",
+                first.start, first.end,
+            )
+        values = self.check(word, first, args)
+        return Directive(word, values, self.text.source, self.text.span, self.text.order, self.text.at_row_end)
+
+    def check(self, word: DirectiveWord, first: _Word, args: list[_Word]) -> tuple[str, ...]:
+        """The checked arguments (choices and kinds lowercased, names as written)."""
+        if word in _BARE:
+            if args:
+                raise self.fail_at(f"'{first.text}' takes no argument, found '{args[0].text}'", args, first)
+            return ()
+        if word in _CHOICES:
+            choices = _CHOICES[word]
+            if len(args) != 1 or args[0].text.lower() not in choices:
+                found = f"'{' '.join(a.text for a in args)}'" if args else "nothing"
+                raise self.fail_at(f"'{first.text}' takes one of {', '.join(choices)}; found {found}", args, first)
+            return (args[0].text.lower(),)
+        if word is DirectiveWord.ASSUME:
+            return self.check_assume(first, args)
+        fewest, most, what = _NAMES[word]
+        if len(args) < fewest or (most is not None and len(args) > most):
+            extra = args[most:] if most is not None else []
+            raise self.fail_at(f"'{first.text}' takes {what}; found {len(args)} argument(s)", extra, first)
+        for name in args:
+            self.check_name(first, name)
+        return tuple(a.text for a in args)
+
+    def check_assume(self, first: _Word, args: list[_Word]) -> tuple[str, ...]:
+        if len(args) != 2:
+            raise self.fail_at(
+                f"'{first.text}' takes a name and a kind (assume NAME KIND, KIND one of "
+                f"{', '.join(_ASSUMPTION_KINDS)}); found {len(args)} argument(s)", args, first,
+            )
+        name, kind = args
+        self.check_name(first, name)
+        if kind.text.lower() not in _ASSUMPTION_KINDS:
+            raise self.fail(
+                f"unknown assumption kind '{kind.text}'; known kinds: {', '.join(_ASSUMPTION_KINDS)}", kind.start, kind.end
+            )
+        return (name.text, kind.text.lower())
+
+    def check_name(self, first: _Word, name: _Word) -> None:
+        """A name is LaTeX (``W``, ``\\mu``, ``\\mathbf{p}``) without math delimiters."""
+        bad = sorted(set(name.text) & set("$%&#"))
+        if bad:
+            raise self.fail(f"'{first.text}': the name '{name.text}' contains {' '.join(bad)}", name.start, name.end)

@@ -43,9 +43,37 @@ def parser() -> MarkdownIt:
         .use(amsmath_plugin)
     )
     _let_dollar_blocks_interrupt(md)
+    for name in _MARKED_BLOCK_RULES:
+        _record_line_starts(md, name)
     for name in ("math_inline", "html_inline"):
         _record_inline_positions(md, name)
     return md
+
+
+#: Block rules whose tokens record where each of their lines starts inside its containers.
+_MARKED_BLOCK_RULES = ("math_block", "amsmath", "fence", "html_block", "paragraph", "heading", "lheading")
+
+
+def _record_line_starts(md: MarkdownIt, name: str) -> None:
+    """Wrap a block rule so its tokens keep ``state.bMarks`` of their lines: where each
+    line starts after block-quote markers (LIBRARY-NOTES §2).  Content lines are then
+    searched from there, never in the ``> `` prefix."""
+    rule = next(r for r in md.block.ruler.__rules__ if r.name == name)
+    original = rule.fn
+
+    def recording(state: Any, start: int, end: int, silent: bool) -> bool:
+        count = len(state.tokens)
+        ok = original(state, start, end, silent)
+        if ok and not silent:
+            for token in state.tokens[count:]:
+                if token.map:
+                    last = min(token.map[1] + 1, len(state.bMarks))
+                    marks = {line: state.bMarks[line] for line in range(token.map[0], last)}
+                    token.meta = {**(token.meta or {}), "line_starts": marks}
+        return ok
+
+    rule.fn = recording
+    md.block.ruler.__compiled__ = None
 
 
 def _let_dollar_blocks_interrupt(md: MarkdownIt) -> None:
@@ -101,16 +129,19 @@ class _Lines:
         return start, end
 
 
-def _excerpt_of(content: str, first_line: int, lines: _Lines) -> Excerpt | None:
+def _excerpt_of(content: str, first_line: int, lines: _Lines, token: MdToken | None = None) -> Excerpt | None:
     """Where each line of a token's content stands in the (normalised) text.
 
     A content line is the end of its file line (container prefixes and indentation
     removed), or its middle (the first line after ``$$``, the last before ``$$``, a
     heading): each is found and verified by comparing text.
 
+    :param token: the markdown-it token, whose recorded line starts (inside block
+        quotes) bound where a line is searched.
     :returns: the excerpt, or None when a line cannot be found (positions then fall
         back to the block's first line).
     """
+    marks: dict[int, int] = (token.meta or {}).get("line_starts", {}) if token is not None else {}
     local_starts: list[int] = []
     file_starts: list[int] = []
     local = 0
@@ -120,6 +151,7 @@ def _excerpt_of(content: str, first_line: int, lines: _Lines) -> Excerpt | None:
                 return None
             break
         start, end = lines.bounds(first_line + k)
+        start = max(start, min(marks.get(first_line + k, start), end))
         at = _find_piece(lines.text, piece, start, end)
         if at is None:
             return None
@@ -195,13 +227,13 @@ class _Reader:
     def _dollar_block(self, token: MdToken) -> None:
         first, _ = self.lines.bounds(token.map[0])
         opener = self.normal.find("$$", first)
-        excerpt = _excerpt_of(token.content, token.map[0], self.lines)
+        excerpt = _excerpt_of(token.content, token.map[0], self.lines, token)
         self._display("$$", token.content, excerpt, opener + 2, token.map[0], token.map[1] - 1)
 
     def _fence(self, token: MdToken) -> None:
         if token.info.strip() != "math":
             return
-        excerpt = _excerpt_of(token.content, token.map[0] + 1, self.lines)
+        excerpt = _excerpt_of(token.content, token.map[0] + 1, self.lines, token)
         fallback = self.lines.bounds(token.map[0])[1] + 1
         self._display("math-fence", token.content, excerpt, fallback, token.map[0], token.map[1] - 1)
 
@@ -209,7 +241,7 @@ class _Reader:
         # The plugin's map ends at the line of \end, not one past it (LIBRARY-NOTES §2).
         first_line, last_line = token.map[0], token.map[1]
         content = token.content
-        excerpt = _excerpt_of(content, first_line, self.lines)
+        excerpt = _excerpt_of(content, first_line, self.lines, token)
         opener = _AMS_OPEN.match(content)
         closing = rf"\end{{{opener.group(1)}}}" if opener else ""
         inner_end = len(content.rstrip()) - len(closing)
@@ -242,7 +274,7 @@ class _Reader:
     # -- paragraphs, headings, comments --------------------------------------------
 
     def _inline(self, token: MdToken) -> None:
-        excerpt = _excerpt_of(token.content, token.map[0], self.lines) if token.map else None
+        excerpt = _excerpt_of(token.content, token.map[0], self.lines, token) if token.map else None
         for child in token.children or ():
             if child.type in ("math_inline", "math_inline_double"):
                 self._inline_math(token, child, excerpt)
@@ -277,7 +309,7 @@ class _Reader:
                 self._directive(start, end)
 
     def _html_block(self, token: MdToken) -> None:
-        excerpt = _excerpt_of(token.content, token.map[0], self.lines)
+        excerpt = _excerpt_of(token.content, token.map[0], self.lines, token)
         if excerpt is None:
             return
         for match in _COMMENT.finditer(token.content):

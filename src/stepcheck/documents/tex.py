@@ -7,7 +7,8 @@ every closer itself (pylatexenc silently runs an unclosed ``\\begin{align}`` to 
 end of the file).  Only the math found here is tokenized later, block by block.
 
 Verbatim regions (``verbatim``, ``lstlisting``, ``minted``, ``comment``, ``\\verb``)
-are blanked with spaces of the same length first, so offsets stay those of the file.
+and ``\\iffalse … \\fi`` are blanked with spaces of the same length first, so offsets
+stay those of the file.
 """
 
 from __future__ import annotations
@@ -43,9 +44,12 @@ _VERBATIM_SCAN = re.compile(
     r"(?P<comment>%[^\n]*)"
     r"|(?P<verb>\\verb\*?(?P<delim>[^A-Za-z\s*])[^\n]*?(?P=delim))"
     r"|\\begin[ \t]*\{(?P<env>" + "|".join(re.escape(e) for e in sorted(VERBATIM_ENVIRONMENTS)) + r")\}"
+    r"|(?P<iffalse>\\iffalse)(?![A-Za-z@])"
     r"|\\.",
     re.S,
 )
+#: Conditionals inside ``\iffalse … \fi`` (``\iff`` is a relation, not a conditional).
+_CONDITIONAL = re.compile(r"(?P<open>\\if(?!f(?![A-Za-z@])|thenelse)[A-Za-z@]*)|(?P<close>\\fi)(?![A-Za-z@])|\\.|%[^\n]*", re.S)
 
 _SCAN = re.compile(
     r"(?P<comment>%)"
@@ -75,7 +79,7 @@ def blank_verbatim(text: str) -> str:
 
     An unclosed verbatim environment is blanked to the end, as LaTeX would read it.
     """
-    if "\\verb" not in text and not any(f"{{{env}}}" in text for env in VERBATIM_ENVIRONMENTS):
+    if "\\verb" not in text and "\\iffalse" not in text and not any(f"{{{env}}}" in text for env in VERBATIM_ENVIRONMENTS):
         return text
     pieces: list[str] = []
     last = pos = 0
@@ -90,6 +94,11 @@ def blank_verbatim(text: str) -> str:
             closing = text.find(rf"\end{{{match.group('env')}}}", match.end())
             start = match.start()
             end = len(text) if closing == -1 else closing + len(match.group("env")) + 6
+        elif match.group("iffalse"):
+            found = _matching_fi(text, match.end())
+            if found is None:
+                continue
+            start, end = match.start(), found
         else:
             continue
         pieces.append(text[last:start])
@@ -97,6 +106,23 @@ def blank_verbatim(text: str) -> str:
         last = pos = end
     pieces.append(text[last:])
     return "".join(pieces)
+
+
+def _matching_fi(text: str, pos: int) -> int | None:
+    """The offset after the ``\\fi`` that closes an ``\\iffalse`` (nested conditionals
+    counted), or None when there is none (then nothing is hidden)."""
+    depth = 1
+    while True:
+        match = _CONDITIONAL.search(text, pos)
+        if match is None:
+            return None
+        pos = match.end()
+        if match.group("open"):
+            depth += 1
+        elif match.group("close"):
+            depth -= 1
+            if depth == 0:
+                return pos
 
 
 @dataclass
@@ -230,6 +256,8 @@ class _Scanner:
 
     def _environment(self, match: re.Match[str]) -> int:
         name = match.group("name").strip()
+        if match.group("env") == "end" and name == "document":
+            return len(self.text)  # LaTeX reads nothing after \end{document}
         if match.group("env") == "end":
             if name in DISPLAY_ENVIRONMENTS or name in INLINE_ENVIRONMENTS:
                 self._problem(rf"\end{{{name}}} without a matching \begin{{{name}}}", Span(match.start(), match.end()))
