@@ -15,12 +15,13 @@ from __future__ import annotations
 
 from typing import Callable
 
-from ..context.model import Layout, Shape, StepContext, StepOptions
+from ..context.model import Shape, StepContext, StepOptions
 from ..diagnostics import Diagnostic
 from ..expressions import nodes as n
 from ..source import SourceText, Span
 from . import messages as m
 from ._env import SCALAR, UNKNOWN, Entry, Origin, ShapeEnv, Val, env_from_table
+from ._shape_rules import FUNCTION_RULES, derivative_shape, higher_derivative_shape
 from ._unify import DimId, Ids
 from .indices import IndexReader
 
@@ -448,10 +449,10 @@ class StepShapes:
         if bottom.shape is None and not bottom.wild:
             self.expect(node.denominator, ())
         elif bottom.shape is not None and not self.env.is_scalar(bottom.shape):
-            self._operand(node.denominator, "division", "a scalar denominator", bottom.shape)
+            self.operand_error(node.denominator, "division", "a scalar denominator", bottom.shape)
         return Val(top.shape, number=top.number and bottom.number, wild=top.wild)
 
-    def _operand(self, node: n.Node, what: str, needs: str, shape: Ids) -> None:
+    def operand_error(self, node: n.Node, what: str, needs: str, shape: Ids) -> None:
         self._error(m.ShapeOperand, node.span, what, needs, self._text(node.span), self.env.text(shape), self._column(node.span))
 
     def _pow(self, node: n.Node) -> Val:
@@ -462,19 +463,19 @@ class StepShapes:
         elif not self.env.is_scalar(exponent.shape):
             if isinstance(node.base, n.Constant) and node.base.name == "e":
                 return Val(exponent.shape)  # e^{x}: the exponential, entry by entry
-            self._operand(node.exponent, "a power", "a scalar exponent", exponent.shape)
+            self.operand_error(node.exponent, "a power", "a scalar exponent", exponent.shape)
             return UNKNOWN
         if base.shape is None or self.env.is_scalar(base.shape):
             return Val(base.shape, number=base.number and exponent.number)
         inverse = _is_minus_one(node.exponent)
         if self.env.vector_length(base.shape) is not None:
             if inverse:
-                self._operand(node.base, "an inverse", "a square matrix or a scalar", base.shape)
+                self.operand_error(node.base, "an inverse", "a square matrix or a scalar", base.shape)
             return Val(base.shape)  # a vector's power is taken entry by entry
         view = self.env.matrix(base.shape)
         if view is None or not self.dims.unify(view[0], view[1]):
             what = "an inverse" if inverse else "a matrix power"
-            self._operand(node.base, what, "a square matrix", base.shape)
+            self.operand_error(node.base, what, "a square matrix", base.shape)
         return Val(base.shape)
 
     def _transpose(self, node: n.Node) -> Val:
@@ -486,7 +487,7 @@ class StepShapes:
             return Val(None, wild=inner.wild)
         flipped = self.env.transposed(inner.shape)
         if flipped is None:
-            self._operand(node.operand, "a transpose", "a vector or a matrix", inner.shape)
+            self.operand_error(node.operand, "a transpose", "a vector or a matrix", inner.shape)
             return UNKNOWN
         return Val(flipped, number=inner.number)
 
@@ -501,55 +502,8 @@ class StepShapes:
         arg, tree = args[0], node.args[0]
         if node.func in ELEMENTWISE:
             return Val(arg.shape, number=arg.number)
-        rule = _FUNCTION_RULES.get(node.func)
+        rule = FUNCTION_RULES.get(node.func)
         return rule(self, node, tree, arg) if rule is not None else UNKNOWN
-
-    def _softmax(self, node: n.Apply, tree: n.Node, arg: Val) -> Val:
-        if arg.shape is None:
-            self.expect(tree, (self.dims.fresh(),))
-            return UNKNOWN
-        if self.env.matrix(arg.shape) is None:  # a matrix is read row by row (attention scores)
-            self._operand(tree, "softmax", "a vector or a matrix", arg.shape)
-        return Val(arg.shape)
-
-    def _square_to_scalar(self, node: n.Apply, tree: n.Node, arg: Val) -> Val:
-        if arg.shape is None:
-            dim = self.dims.fresh()
-            self.expect(tree, (dim, dim))
-            return SCALAR
-        if self.env.is_scalar(arg.shape):
-            return SCALAR
-        view = self.env.matrix(arg.shape)
-        if view is None or self.env.vector_length(arg.shape) is not None or not self.dims.unify(view[0], view[1]):
-            words = {"tr": "a trace", "det": "a determinant", "logdet": "a log-determinant"}
-            self._operand(tree, words.get(node.func, node.func), "a square matrix", arg.shape)
-        return SCALAR
-
-    def _diag(self, node: n.Apply, tree: n.Node, arg: Val) -> Val:
-        if arg.shape is None:
-            self.expect(tree, (self.dims.fresh(),))
-            return UNKNOWN
-        if self.env.is_scalar(arg.shape):
-            return SCALAR
-        length = self.env.vector_length(arg.shape)
-        if length is not None:
-            return Val((length, length))
-        view = self.env.matrix(arg.shape)
-        if view is None or not self.dims.unify(view[0], view[1]):
-            self._operand(tree, "diag", "a vector or a square matrix", arg.shape)
-            return UNKNOWN
-        return Val((view[0],))
-
-    def _vec(self, node: n.Apply, tree: n.Node, arg: Val) -> Val:
-        if arg.shape is None:
-            return UNKNOWN
-        if not arg.shape:
-            return SCALAR
-        view = self.env.matrix(arg.shape)
-        if view is None:
-            self._operand(tree, "vec", "a vector or a matrix", arg.shape)
-            return UNKNOWN
-        return Val((self.env.times(view[0], view[1]),))
 
     def _norm(self, node: n.Node) -> Val:
         assert isinstance(node, n.Norm)
@@ -603,7 +557,7 @@ class StepShapes:
         axes = self._axes_for(inner.shape, len(node.subs))
         if axes is None:
             needs = f"{len(node.subs)} " + ("axis" if len(node.subs) == 1 else "axes")
-            self._operand(node.operand, "a component", needs, inner.shape)
+            self.operand_error(node.operand, "a component", needs, inner.shape)
             return SCALAR
         for sub, axis in zip(node.subs, axes):
             if isinstance(sub, n.Index):
@@ -641,18 +595,7 @@ class StepShapes:
         shapes = [v.shape for v in variables]
         if len(shapes) == 1:
             return derivative_shape(self.env, expr.shape, shapes[0], self.options.layout)  # type: ignore[arg-type]
-        return self._higher_derivative(expr.shape, shapes)  # type: ignore[arg-type]
-
-    def _higher_derivative(self, expr: Ids, shapes: list[Ids]) -> Val:
-        if not self.env.is_scalar(expr):
-            return UNKNOWN
-        if all(self.env.is_scalar(s) for s in shapes):
-            return SCALAR
-        if len(shapes) == 2:
-            lengths = [self.env.vector_length(s) for s in shapes]
-            if lengths[0] is not None and lengths[1] is not None:
-                return Val((lengths[0], lengths[1]))  # the Hessian
-        return UNKNOWN
+        return higher_derivative_shape(self.env, expr.shape, shapes)  # type: ignore[arg-type]
 
     def _gradient(self, node: n.Node) -> Val:
         assert isinstance(node, n.Gradient)
@@ -668,37 +611,6 @@ class StepShapes:
         if node.order == 2 and length is not None:
             return Val((length, length))
         return SCALAR if self.env.is_scalar(var.shape) else UNKNOWN
-
-
-def derivative_shape(env: ShapeEnv, expr: Ids, var: Ids, layout: Layout) -> Val:
-    """The shape of ``∂expr/∂var`` (SPEC §8).
-
-    Numerator layout: the numerator's axes first, then the variable's transposed (a
-    scalar by a column is a row; by an n×d matrix, d×n).  Denominator layout: the
-    transpose of that (a scalar by a column is a column; by a matrix, shaped like it).
-    """
-    numerator = layout is Layout.NUMERATOR
-    if env.is_scalar(var):
-        return Val(expr if numerator else env.transposed(expr))
-    if env.is_scalar(expr):
-        return Val(env.transposed(var) if numerator else var)
-    out, into = env.vector_length(expr), env.vector_length(var)
-    if out is not None and into is not None:
-        if len(var) == 2 and len(expr) == 1:
-            return Val((out, into))  # ∂y/∂x^T: the Jacobian either way
-        return Val((out, into) if numerator else (into, out))
-    return UNKNOWN  # a matrix by a vector or matrix: a higher tensor, not sized here
-
-
-#: Non-elementwise known functions and their rules.
-_FUNCTION_RULES: dict[str, Callable[[StepShapes, n.Apply, n.Node, Val], Val]] = {
-    "softmax": StepShapes._softmax,
-    "tr": StepShapes._square_to_scalar,
-    "det": StepShapes._square_to_scalar,
-    "logdet": StepShapes._square_to_scalar,
-    "diag": StepShapes._diag,
-    "vec": StepShapes._vec,
-}
 
 
 # --------------------------------------------------------------------------- one step

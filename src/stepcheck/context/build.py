@@ -13,12 +13,12 @@ from __future__ import annotations
 import dataclasses
 import logging
 from dataclasses import dataclass, field
-from typing import Hashable, Mapping, Sequence
+from typing import Mapping, Sequence
 
 from ..checks import messages as mm
 from ..checks.indices import check_indices
 from ..diagnostics import Diagnostic
-from ..expressions.chains import Chain, Step, Structure, steps_of
+from ..expressions.chains import Chain, Step, Structure
 from ..expressions.errors import ParseError
 from ..expressions.nodes import Node
 from ..expressions.tokens import Token
