@@ -92,7 +92,8 @@ class CalculusReading:
         bottom = self._differential_at(*den)
         if top is not None and top[0] == "partial" or bottom is not None and bottom[0] == "partial":
             if top is None or bottom is None or top[0] != bottom[0]:
-                span = self.s.tokens[num[0]].span if num[1] > num[0] else cmd.span
+                odd = den if top is not None and top[0] == "partial" else num
+                span = self.s.tokens[odd[0]].span if odd[1] > odd[0] else cmd.span
                 raise self.s.error(
                     f"the fraction at {self.s.where(cmd.span)} mixes \\partial with something else: write "
                     "\\frac{\\partial f}{\\partial x}",
@@ -297,7 +298,8 @@ class CalculusReading:
                     f"read: write {tok.text}_{{i}}, {tok.text}_{{i,j}} or {tok.text}_{{i=1}}^{{n}}",
                     sub.span,
                 )
-            bindings.append(n.Binding(toks[a].text, lower, upper, toks[a].span))
+            span = sub.span if sup is None else sub.span.join(sup.span)
+            bindings.append(n.Binding(toks[a].text, lower, upper, span))
         return tuple(bindings)
 
     def root(self) -> n.Node:

@@ -45,7 +45,11 @@ class Stream:
         self.limit = 0
         """Tokens at or past this index are out of reach (the end of a bounded region)."""
         self._prepare(tokens)
-        _split_arguments(self.tokens, self.roles)
+        self.cuts: list[Span] = _split_arguments(self.tokens, self.roles)
+        """Multi-digit numbers cut because TeX takes one digit as an argument."""
+        self.cut_heads = {tok.span for tok in self.tokens if tok.kind is TokenKind.NUMBER and len(tok.text) == 1 and any(
+            tok.span.start == cut.start and tok.span.end < cut.end for cut in self.cuts)}
+        """Spans of the digits cut off as arguments."""
         self.limit = len(self.tokens)
         self.match = _match_groups(self.tokens)
         """Index of each brace's partner (``{`` ↔ ``}``); an unclosed ``{`` has none."""
@@ -221,12 +225,13 @@ _ARGUMENT_COUNTS: dict[str, int] = {
 }
 
 
-def _split_arguments(tokens: list[Token], roles: list[str | None]) -> None:
+def _split_arguments(tokens: list[Token], roles: list[str | None]) -> list[Span]:
     """Cut multi-digit numbers that stand as single-token arguments (rule ``tex-argument``).
 
     TeX takes one character as an unbraced argument: ``x^12`` is ``x^1 2`` and
     ``\\tfrac12`` is ``\\tfrac{1}{2}``.
     """
+    cuts: list[Span] = []
     i = 0
     while i < len(tokens):
         tok = tokens[i]
@@ -248,11 +253,13 @@ def _split_arguments(tokens: list[Token], roles: list[str | None]) -> None:
                 j = _skip_group(tokens, j)
                 continue
             if tokens[j].kind is TokenKind.NUMBER and len(tokens[j].text) > 1:
+                cuts.append(tokens[j].span)
                 pieces = _cut_number(tokens[j])
                 tokens[j : j + 1] = pieces
                 roles[j : j + 1] = [None] * len(pieces)
             j += 1
         i += 1
+    return cuts
 
 
 def _cut_number(tok: Token) -> list[Token]:

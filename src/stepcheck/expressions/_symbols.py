@@ -87,6 +87,8 @@ class Scripts:
 
     primes: int
     items: tuple[Script, ...]
+    prime_span: Span | None = None
+    """Where the primes stand, when there are any."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -205,8 +207,10 @@ class SymbolReading:
     def _word(self, word: str, span: Span) -> Base | FunctionName:
         """A word written upright (rule ``word-name``): a function when known or declared."""
         if word in self.vocab.functions:
+            self.note("word-name", span, f"the word {word} names the declared function {word}")
             return FunctionName(word, True, span)
         if word in OPERATOR_NAMES:
+            self.note("word-name", span, f"the word {word} names the function {OPERATOR_NAMES[word]}")
             return FunctionName(OPERATOR_NAMES[word], False, span)
         if len(word) == 1:
             return Base(word, self.bold > 0, span, "letter")
@@ -256,6 +260,7 @@ class SymbolReading:
     def read_scripts(self) -> Scripts:
         """scripts := ( "'" | '_' argument | '^' argument | '{}' )*, one of each per atom."""
         primes = 0
+        prime_span: Span | None = None
         items: list[Script] = []
         has_sub = has_sup = False
         while (tok := self.s.peek()) is not None:
@@ -264,6 +269,7 @@ class SymbolReading:
                     raise self.s.error(f"a prime after a superscript at {self.s.where(tok.span)} (double superscript)", tok.span)
                 self.s.advance()
                 primes += 1
+                prime_span = tok.span if prime_span is None else prime_span.join(tok.span)
             elif tok.kind in (TokenKind.SUB, TokenKind.SUP):
                 sub = tok.kind is TokenKind.SUB
                 if (has_sub if sub else has_sup):
@@ -285,7 +291,7 @@ class SymbolReading:
                 has_sub = has_sup = False
             else:
                 break
-        return Scripts(primes, tuple(items))
+        return Scripts(primes, tuple(items), prime_span)
 
     def _empty_group_then_script(self) -> bool:
         """``{}`` followed by ``_`` or ``^`` (``T^{i}{}_{j}``)."""
@@ -329,7 +335,9 @@ class SymbolReading:
         if b - a > 1 and all(t.kind is TokenKind.LETTER for t in toks[a:b]):
             word = "".join(t.text for t in toks[a:b])
             if word in self.vocab.labels:
-                return [Entry(None, word, toks[a].span.join(toks[b - 1].span))]
+                span = toks[a].span.join(toks[b - 1].span)
+                self.note("subscript-label", span, f"{word} is a declared label, part of the name")
+                return [Entry(None, word, span)]
         out: list[Entry] = []
         i = a
         while i < b:
@@ -350,12 +358,14 @@ class SymbolReading:
             j = self.s.match.get(i, b)
             inner = self.s.tokens[i + 1 : j]
             if len(inner) == 1 and inner[0].kind is TokenKind.NUMBER and inner[0].text.isdigit():
+                self.note("subscript-digits", inner[0].span, "a braced number is one component")
                 return [Entry(n.Fixed(int(inner[0].text), up, inner[0].span), None, inner[0].span)], j + 1
             return None
         if t.kind is TokenKind.COMMAND:
             if t.text in GREEK:
                 return [self._name_entry(t, up)], i + 1
             if t.text in LABEL_COMMANDS:
+                self.note("subscript-label", t.span, f"{LABEL_COMMANDS[t.text]} is a label, part of the name")
                 return [Entry(None, LABEL_COMMANDS[t.text], t.span)], i + 1
             if t.text in TEXT_FONTS | PLAIN_FONTS:
                 return self._word_entry(t, i, b)
@@ -379,6 +389,8 @@ class SymbolReading:
     def _number_entries(self, t: Token, comma: bool, up: bool) -> list[Entry]:
         if not t.text.isdigit():
             raise self.s.error(f"the subscript number '{t.text}' at {self.s.where(t.span)} is not a component", t.span)
+        if comma:
+            self.note("subscript-digits", t.span, "between commas, a number is one component")
         if comma or len(t.text) == 1:
             return [Entry(n.Fixed(int(t.text), up, t.span), None, t.span)]
         self.note("subscript-digits", t.span, f"each digit is one component: ({', '.join(t.text)})")
@@ -575,6 +587,10 @@ class SymbolBuilding:
                     self.note("up-down", item.span, "upper indices")
             else:
                 powers.append((item, kind))
+        if scripts.prime_span is not None:
+            symbol_span = symbol_span.join(scripts.prime_span)
+        if primes:
+            self.note("prime", symbol_span, f"{base.name}{chr(39) * primes} is a symbol of its own")
         named = bool(labels or sup_label or primes)
         name = base.name + "'" * primes
         if labels:

@@ -192,6 +192,8 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
         self.open_bar: str | None = None
         """The kind of the innermost open bar (``abs``/``norm``), which a bar may close."""
         self.readings: list[Reading] = []
+        for span in self.s.cuts:
+            self.note("tex-argument", span, "one digit is the argument, as in TeX")
 
     # ----------------------------------------------------------------- plumbing
 
@@ -339,6 +341,12 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
             elif self.starts_factor(tok):
                 previous = self.s.tokens[self.s.pos - 1]
                 if tok.kind is TokenKind.NUMBER and previous.kind is TokenKind.NUMBER:
+                    if previous.span in self.s.cut_heads:
+                        raise self.s.error(
+                            f"only the digit '{previous.text}' at {self.s.where(previous.span)} is the argument, "
+                            f"as in TeX: write {{{previous.text}{tok.text}}} for the number {previous.text}{tok.text}",
+                            previous.span.join(tok.span),
+                        )
                     raise self.s.error(
                         f"two numbers side by side at {self.s.where(tok.span)} ('{previous.text} {tok.text}') "
                         "are not read: write \\cdot between them",
@@ -438,12 +446,25 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
                     node.span,
                 )
             self.note(
-                "undeclared-product", node.span.join(self.s.tokens[self.s.pos].span),
+                "undeclared-product", node.span.join(self._paren_end()),
                 f"product ({node.name} is not declared a function)",
             )
         elif func is not None and isinstance(node, (n.Symbol, n.Pow)):
             self.note("dual-role-symbol", node.span, f"{base.name} is a symbol here (no parenthesis follows)")
         return node
+
+    def _paren_end(self) -> Span:
+        """The span of the ')' matching the '(' at the cursor (or of the '(' itself)."""
+        depth = 0
+        for i in range(self.s.pos, self.s.limit):
+            tok = self.s.tokens[i]
+            if tok.is_symbol("("):
+                depth += 1
+            elif tok.is_symbol(")"):
+                depth -= 1
+                if depth == 0:
+                    return tok.span
+        return self.s.tokens[self.s.pos].span
 
     def _function_role(self, base: Base) -> tuple[str | None, bool]:
         if base.name in self.vocab.functions:
@@ -551,7 +572,9 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
             raise self.s.error(f"an empty group '{{}}' at {self.s.where(tok.span)} is not an operand", tok.span)
         self.s.pos = j + 1
         inner = self.region(i + 1, j, self.expression)
-        return dataclasses.replace(inner, span=self.s.span_from(i))  # type: ignore[type-var]
+        span = self.s.span_from(i)
+        self.note("group", span, "braces group like parentheses")
+        return dataclasses.replace(inner, span=span)  # type: ignore[type-var]
 
     def delimited(self) -> Node:
         """delimited := '(' expression ')' | '[' … ']' | '\\{' … '\\}' | bar expression bar
@@ -567,7 +590,7 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
             if kind == "inner":
                 comma = self.s.peek()
                 if comma is None or not comma.is_symbol(","):
-                    raise self._not_closed(opener, "','")
+                    raise self._not_closed(opener, "','", "between the two sides of")
                 self.s.advance()
                 second = self.expression()
             self._close(opener, closer, kind)
@@ -577,6 +600,8 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
         if kind == "inner":
             assert second is not None
             return n.Inner(first, second, span)
+        if opener.text in BARS:
+            self.note("bars", span, "bars pair innermost first; a bar in operand position opens")
         if kind == "abs":
             return n.Abs(first, span)
         if kind == "norm":
@@ -595,7 +620,7 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
                 return
         raise self._not_closed(opener, f"'{closer}'")
 
-    def _not_closed(self, opener: Token, expected: str) -> ParseError:
+    def _not_closed(self, opener: Token, expected: str, purpose: str = "to close") -> ParseError:
         tok = self.s.peek()
         written = self.s.text_of(opener.span)
         if tok is None:
@@ -604,7 +629,7 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
                 return self.s.error(f"'{written}' at {self.s.where(opener.span)} is never closed", opener.span)
             tok = boundary
         return self.s.error(
-            f"expected {expected} to close the '{written}' at {self.s.where(opener.span)}, found "
+            f"expected {expected} {purpose} the '{written}' at {self.s.where(opener.span)}, found "
             f"{describe(tok)} at {self.s.where(tok.span)}",
             tok.span,
         )
@@ -670,10 +695,10 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
         power = self._function_power(name_span)
         if self.at_paren():
             args = self.argument_list()
-            self.note("function-applied", self.s.span_from(start), f"the function {func} applied")
+            self.note("function-applied", self.s.span_from(start), _applied(func, user))
         elif (tok := self.s.peek()) is not None and tok.kind is TokenKind.OPEN:
             args = (self.group(),)
-            self.note("function-applied", self.s.span_from(start), f"the function {func} applied")
+            self.note("function-applied", self.s.span_from(start), _applied(func, user))
         else:
             args = (self._next_factor(func, name_span),)
             self.note("function-next-factor", self.s.span_from(start), f"{func} applied to the next factor only")
@@ -784,3 +809,9 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
         if not rows:
             raise self.s.error(f"the {begin.text} at {self.s.where(begin.span)} is empty", begin.span)
         return rows
+
+
+def _applied(func: str, user: bool) -> str:
+    if func == "sigma":
+        return "the logistic function applied"
+    return f"the declared function {func} applied" if user else f"the function {func} applied"

@@ -1,0 +1,296 @@
+"""The math reader: snippets from tests/cases/parser_snippets.txt, spans, limits, errors.
+
+The case file holds blocks of ``title`` / ``.`` / ``input`` / ``.`` / ``expected`` / ``.``.
+A title may end with vocabulary options in brackets (``[functions=f; dimensions=n;
+labels=max; index=\\mu; tensors=e; up-down; zero-based]``).  The expected block is the
+tree's outline (``nodes.outline``) or ``error: <the ParseError as printed>``.  A title
+that starts with an ambiguity rule id (``transpose: …``) shows that rule.
+"""
+
+from __future__ import annotations
+
+import ast
+import re
+import time
+import warnings
+from pathlib import Path
+
+import pytest
+
+from stepcheck.context.model import Vocabulary
+from stepcheck.expressions import nodes as n
+from stepcheck.expressions import parser
+from stepcheck.expressions.errors import ParseError
+from stepcheck.expressions.parser import MAX_DEPTH, parse_latex, parse_side, read_latex
+from stepcheck.expressions.tokens import tokenize
+from stepcheck.expressions.vocabulary import AMBIGUITY_RULES
+from stepcheck.source import SourceText
+
+CASES = Path(__file__).parent / "cases" / "parser_snippets.txt"
+PACKAGE = Path(__file__).parent.parent / "src" / "stepcheck"
+
+#: Rules whose reading ``explain`` shows in its tensor list rather than as a reading.
+SHOWN_AS_TENSORS = {"subscript-index"}
+
+_OPTION_KEYS = {
+    "functions": "functions", "dimensions": "dimensions", "labels": "labels",
+    "index": "index_letters", "tensors": "tensors",
+}
+
+
+@pytest.fixture(autouse=True)
+def strict_reader(monkeypatch: pytest.MonkeyPatch) -> None:
+    """Under test an internal error propagates instead of becoming a ParseError."""
+    monkeypatch.setattr(parser, "STRICT", True)
+
+
+def read_cases(path: Path) -> list[tuple[str, str, str]]:
+    """(title, input, expected) for each block of a case file."""
+    lines = path.read_text(encoding="utf-8").split("\n")
+    cases, i = [], 0
+    while i < len(lines):
+        if not lines[i].strip():
+            i += 1
+            continue
+        title = lines[i]
+        assert lines[i + 1] == ".", f"line {i + 2}: expected '.' after the title"
+        j = lines.index(".", i + 2)
+        k = lines.index(".", j + 1)
+        cases.append((title, "\n".join(lines[i + 2 : j]), "\n".join(lines[j + 1 : k])))
+        i = k + 1
+    return cases
+
+
+def vocabulary_of(title: str) -> Vocabulary:
+    """The vocabulary a case title asks for."""
+    match = re.search(r"\[(.*)\]\s*$", title)
+    options: dict[str, object] = {}
+    for part in (match.group(1).split(";") if match else []):
+        part = part.strip()
+        if part == "up-down":
+            options["up_down"] = True
+        elif part == "zero-based":
+            options["one_based"] = False
+        else:
+            key, _, values = part.partition("=")
+            options[_OPTION_KEYS[key.strip()]] = frozenset(v.strip() for v in values.split(","))
+    return Vocabulary(**options)  # type: ignore[arg-type]
+
+
+def rule_of(title: str) -> str | None:
+    """The rule a case shows: ``rule: …`` where it applies, ``not rule: …`` where it does not."""
+    prefix = title.split(":", 1)[0].removeprefix("not ")
+    return prefix if prefix in AMBIGUITY_RULES else None
+
+
+def outcome(text: str, vocabulary: Vocabulary) -> str:
+    try:
+        return n.outline(parse_latex(text, vocabulary))
+    except ParseError as exc:
+        return f"error: {exc}"
+
+
+ALL_CASES = read_cases(CASES)
+
+
+@pytest.mark.parametrize(("title", "text", "expected"), ALL_CASES, ids=[c[0] for c in ALL_CASES])
+def test_snippet(title: str, text: str, expected: str) -> None:
+    assert outcome(text, vocabulary_of(title)) == expected
+
+
+def test_case_file_is_large_and_has_many_error_kinds() -> None:
+    assert len(ALL_CASES) >= 120
+    errors = [c for c in ALL_CASES if c[2].startswith("error: ")]
+    assert len(errors) >= 10
+    assert len({c[2] for c in errors}) == len(errors), "each error case shows a different message"
+
+
+@pytest.mark.parametrize("rule", sorted(AMBIGUITY_RULES))
+def test_every_ambiguity_rule_has_a_case(rule: str) -> None:
+    assert any(rule_of(title) == rule for title, _, _ in ALL_CASES), f"no case titled '{rule}: …'"
+
+
+RULE_CASES = [c for c in ALL_CASES if rule_of(c[0]) and not c[2].startswith("error: ")]
+
+
+@pytest.mark.parametrize(("title", "text", "expected"), RULE_CASES, ids=[c[0] for c in RULE_CASES])
+def test_rule_case_reports_its_reading(title: str, text: str, expected: str) -> None:
+    """The reader records the rule a case is titled with (what ``explain`` shows), and
+    does not record it for a ``not rule: …`` case."""
+    rule = rule_of(title)
+    rules = {r.rule for r in read_latex(text, vocabulary_of(title)).readings}
+    if title.startswith("not "):
+        assert rule not in rules
+    elif rule in SHOWN_AS_TENSORS:
+        assert rule not in rules  # shown in explain's tensor list instead
+    else:
+        assert rule in rules
+
+
+# --------------------------------------------------------------------------- spans
+
+
+SPAN_SAMPLES = [
+    r"\frac{\partial \mathcal{L}}{\partial W_{ij}} + \left(a+b\right)^2",
+    r"\sum_{i=1}^{n} x_i M_{ij} x_j - \|R - UV^\top\|_F^2",
+    r"\operatorname{tr}(A^\top B) \cdot \sigma(z)(1-\sigma(z))",
+    r"\begin{pmatrix} a & b \\ c & d \end{pmatrix} \mathbf{x}_i^\top",
+]
+
+
+@pytest.mark.parametrize("text", SPAN_SAMPLES)
+def test_every_span_lies_inside_the_text_and_parents_cover_children(text: str) -> None:
+    root = parse_latex(text)
+    assert (root.span.start, root.span.end) == (0, len(text))
+    for node in root.walk():
+        assert 0 <= node.span.start < node.span.end <= len(text), node
+        for child in node.children():
+            assert node.span.start <= child.span.start and child.span.end <= node.span.end, (node, child)
+
+
+def test_spans_name_the_written_text() -> None:
+    text = r"c + \left(a+b\right)^2 W_{ij}"
+    root = parse_latex(text)
+    assert isinstance(root, n.Add)
+    product = root.terms[1]
+    assert isinstance(product, n.Mul)
+    power, tensor = product.factors
+    assert text[power.span.start : power.span.end] == r"\left(a+b\right)^2"
+    assert isinstance(power, n.Pow)
+    assert text[power.base.span.start : power.base.span.end] == r"\left(a+b\right)"
+    assert text[tensor.span.start : tensor.span.end] == "W_{ij}"
+
+
+def test_spans_are_file_offsets_and_errors_carry_line_and_column() -> None:
+    # GIVEN a document whose third line holds math starting at column 7
+    doc = "intro\n\nline: a_i = A_{ij} (b_j\n"
+    source = SourceText("notes/cable.tex", doc)
+    start = doc.index("A_{ij}")
+    tokens = tokenize(doc[start:].rstrip("\n"), start, source)
+    # WHEN the side is read
+    with pytest.raises(ParseError) as caught:
+        parse_side(tokens, Vocabulary(), source)
+    # THEN the error names the file, line and column of the unclosed '('
+    assert str(caught.value) == "notes/cable.tex:3:20: '(' at column 20 is never closed"
+    good = tokenize("A_{ij} b_j", start, source)
+    node = parse_side(good, Vocabulary(), source)
+    assert node.span.start == start
+
+
+def test_matrix_literal_keeps_its_rows() -> None:
+    node = parse_latex(r"\begin{bmatrix} 1 & x \\ y & 2 \\ 3 & z \end{bmatrix}")
+    assert isinstance(node, n.MatrixLiteral)
+    assert [len(row) for row in node.rows] == [2, 2, 2]
+    assert isinstance(node.rows[2][1], n.Symbol) and node.rows[2][1].name == "z"
+
+
+# --------------------------------------------------------------------------- limits
+
+
+def test_nesting_within_the_limit_is_read() -> None:
+    depth = MAX_DEPTH - 10
+    node = parse_latex("(" * depth + "x" + ")" * depth)
+    assert isinstance(node, n.Symbol)
+
+
+def test_nested_fractions_within_the_limit_are_read() -> None:
+    text = "x"
+    for _ in range(25):  # the tokenizer allows 60 levels of pylatexenc nodes: two per fraction
+        text = rf"\frac{{{text}}}{{2}}"
+    node = parse_latex(text)
+    assert isinstance(node, n.Div)
+
+
+def test_nesting_past_the_limit_is_a_parse_error() -> None:
+    depth = MAX_DEPTH + 50
+    with pytest.raises(ParseError, match=f"nests deeper than {MAX_DEPTH} levels"):
+        parse_latex("(" * depth + "x" + ")" * depth)
+
+
+def test_a_huge_side_is_refused_quickly() -> None:
+    text = " + ".join(f"x_{{{i % 9 + 1}}}" for i in range(1500))
+    started = time.perf_counter()
+    with pytest.raises(ParseError, match="too long"):
+        parse_latex(text)
+    assert time.perf_counter() - started < 5.0
+
+
+def test_a_long_but_allowed_side_is_read_in_linear_time() -> None:
+    text = " + ".join(f"a_{{i}} b_{{i}}" for _ in range(300))
+    started = time.perf_counter()
+    node = parse_latex(text)
+    assert isinstance(node, n.Add) and len(node.terms) == 300
+    assert time.perf_counter() - started < 5.0
+
+
+# --------------------------------------------------------------------------- no evaluation of text
+
+
+#: Builtins that run text as code (called by their bare name).
+FORBIDDEN_BUILTINS = {"eval", "exec", "compile", "__import__"}
+#: Library functions that parse text into expressions (called by any name).
+FORBIDDEN_PARSERS = {"sympify", "parse_expr"}
+
+
+def _calls(tree: ast.AST) -> list[tuple[ast.Call, str, ast.AST | None]]:
+    """Every call in ``tree`` with the called name and its enclosing conditional expression."""
+    found: list[tuple[ast.Call, str, ast.AST | None]] = []
+
+    def visit(node: ast.AST, guard: ast.AST | None) -> None:
+        if isinstance(node, ast.IfExp):
+            visit(node.test, guard)
+            visit(node.body, node.test)
+            visit(node.orelse, guard)
+            return
+        if isinstance(node, ast.Call):
+            func = node.func
+            if isinstance(func, ast.Name):
+                found.append((node, func.id, guard))
+            elif isinstance(func, ast.Attribute) and func.attr in FORBIDDEN_PARSERS:
+                found.append((node, func.attr, guard))
+        for child in ast.iter_child_nodes(node):
+            visit(child, guard)
+
+    visit(tree, None)
+    return found
+
+
+def _is_int_guarded(call: ast.Call, guard: ast.AST | None) -> bool:
+    """``sympify(x) if isinstance(x, int) else …``: a number constructor, not text parsing."""
+    if len(call.args) != 1:
+        return False
+    arg = call.args[0]
+    if isinstance(arg, ast.Constant) and isinstance(arg.value, (int, float)):
+        return True
+    return (
+        isinstance(guard, ast.Call) and isinstance(guard.func, ast.Name) and guard.func.id == "isinstance"
+        and isinstance(arg, ast.Name) and isinstance(guard.args[0], ast.Name) and guard.args[0].id == arg.id
+        and ast.unparse(guard.args[1]) in ("int", "(int,)")
+    )
+
+
+def test_the_package_never_evaluates_or_parses_text_as_code() -> None:
+    """No sympify/parse_expr/eval/exec anywhere; inside evaluation/ only sympy constructors
+    (a ``sympify`` of a value checked to be an int counts as one)."""
+    offenders = []
+    for path in sorted(PACKAGE.rglob("*.py")):
+        source = path.read_text(encoding="utf-8")
+        if "sympy.parsing" in source or "from sympy.parsing" in source:
+            offenders.append(f"{path.relative_to(PACKAGE)}: imports sympy.parsing")
+        in_evaluation = path.relative_to(PACKAGE).parts[0] == "evaluation"
+        with warnings.catch_warnings():  # another module's invalid escape sequence is not this test's business
+            warnings.simplefilter("ignore", DeprecationWarning)
+            tree = ast.parse(source)
+        for call, name, guard in _calls(tree):
+            if name not in FORBIDDEN_BUILTINS | FORBIDDEN_PARSERS:
+                continue
+            if in_evaluation and name == "sympify" and _is_int_guarded(call, guard):
+                continue
+            offenders.append(f"{path.relative_to(PACKAGE)}:{call.lineno}: {name}(…)")
+    assert offenders == []
+
+
+def test_the_reader_imports_no_sympy() -> None:
+    for name in ("parser.py", "_symbols.py", "_calculus.py", "_stream.py", "vocabulary.py", "printer.py"):
+        source = (PACKAGE / "expressions" / name).read_text(encoding="utf-8")
+        assert "sympy" not in source, name
