@@ -10,7 +10,7 @@ bridge cable's stress tensor, a recommender's scores.
 from __future__ import annotations
 
 import pytest
-from context_helpers import read_step, step_context
+from context_helpers import read_expression, read_step, step_context
 
 from stepcheck.checks import messages as m
 from stepcheck.checks.indices import check_indices
@@ -169,3 +169,47 @@ def test_index_side_against_a_scalar_matrix_side_is_an_error():
     lhs, rhs, source = read_step(r"y_i = w^\top w", context)
     found = check_indices(lhs, rhs, context, source)
     assert found and found[0].message == "free indices differ: left {i}, right none"
+
+
+# --------------------------------------------------------------------------- against numpy.einsum
+
+import numpy as np  # noqa: E402
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from stepcheck.checks.indices import read_side  # noqa: E402
+
+LETTERS = "ijkl"
+SIZES = {"i": 2, "j": 3, "k": 4, "l": 5}
+
+
+@st.composite
+def product_terms(draw):
+    """A product of 1–4 tensors (A–D) with 1–2 index letters each, no letter more than twice."""
+    used: dict[str, int] = {}
+    factors = []
+    for name in "ABCD"[: draw(st.integers(1, 4))]:
+        letters = []
+        for c in draw(st.lists(st.sampled_from(LETTERS), min_size=1, max_size=2)):
+            if used.get(c, 0) < 2:
+                used[c] = used.get(c, 0) + 1
+                letters.append(c)
+        if letters:
+            factors.append((name, "".join(letters)))
+    return factors or [("A", "i")]
+
+
+@settings(max_examples=60, deadline=None)
+@given(product_terms())
+def test_free_indices_of_a_product_match_numpy_einsum(factors):
+    # Reference: numpy.einsum in implicit mode sums an index written twice and keeps one
+    # written once as an output axis.
+    latex = " ".join(f"{name}_{{{letters}}}" for name, letters in factors)
+    node, source = read_expression(latex)
+    found = read_side(node, source, "left", step_context())
+    assert found.errors == ()
+    arrays = [np.ones([SIZES[c] for c in letters]) for _, letters in factors]
+    result = np.einsum(",".join(letters for _, letters in factors), *arrays)
+    expected = sorted(c for c in LETTERS if sum(letters.count(c) for _, letters in factors) == 1)
+    assert sorted(o.name for o in found.free) == expected
+    assert np.ndim(result) == len(expected)

@@ -184,3 +184,49 @@ def test_a_one_by_one_result_acts_as_a_scalar():
 
 def test_zero_fits_any_shape():
     assert step_errors(r"X w - X w = 0") == []
+
+
+# --------------------------------------------------------------------------- against numpy
+
+import numpy as np  # noqa: E402
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+#: Declared operands and numpy stand-ins at distinct sizes n=2, d=3, m=5 (a vector is a column).
+NUMPY_SIZES = {"n": 2, "d": 3, "m": 5}
+OPERANDS = {"X": ("n", "d"), "G": ("d", "m"), "S": ("n", "n"), "w": ("d",), "y": ("n",), "v": ("m",)}
+
+
+def _array(shape):
+    dims = [NUMPY_SIZES[d] for d in shape]
+    return np.ones(dims if len(dims) == 2 else dims + [1])
+
+
+@st.composite
+def products(draw):
+    names = draw(st.lists(st.sampled_from(sorted(OPERANDS)), min_size=2, max_size=3))
+    return [(name, draw(st.booleans())) for name in names]
+
+
+@settings(max_examples=80, deadline=None)
+@given(products())
+def test_product_shapes_agree_with_numpy_matmul(factors):
+    # Reference: numpy's matmul raises exactly when inner sizes differ; its result shape
+    # (with an a×1 column read as a vector and 1×1 as a scalar) is the product's shape.
+    latex = " ".join(name + ("^\\top" if t else "") for name, t in factors)
+    context = step_context(OPERANDS)
+    node, source = read_expression(latex, context)
+    found, errors = expression_shape(node, context, source)
+    arrays = [_array(OPERANDS[name]).T if t else _array(OPERANDS[name]) for name, t in factors]
+    try:
+        result = arrays[0]
+        for array in arrays[1:]:
+            result = result if array.shape == (1, 1) else array if result.shape == (1, 1) else result @ array
+    except ValueError:
+        assert errors and type(errors[0]) is m.ShapeMultiply
+        return
+    assert errors == []
+    sizes = {v: k for k, v in NUMPY_SIZES.items()}
+    rows, cols = result.shape
+    expected = () if (rows, cols) == (1, 1) else (sizes[rows],) if cols == 1 else (1 if rows == 1 else sizes[rows], sizes[cols])
+    assert found == expected
