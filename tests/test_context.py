@@ -290,3 +290,9 @@ def test_a_size_letter_used_as_an_index_in_a_chain_is_an_index_there():
     assert first.findings == () and second.findings == ()
     assert "m" in third.context.vocabulary.dimensions  # u_m: the last component, a fixed entry
     assert third.findings == ()
+
+
+def test_a_symbol_sized_by_a_product_of_dimensions_is_left_out_of_the_table():
+    text = "$X \\in \\mathbb{R}^{n\\times d}$\n\n$$\n\\mathbf{x} = \\operatorname{vec}(X)\n$$\n"
+    shapes = document_context(text).plans[0].context.shapes
+    assert "x" not in shapes.symbols and shapes.symbols["X"] == ("n", "d")

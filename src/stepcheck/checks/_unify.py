@@ -102,9 +102,9 @@ class Dims:
             return self.sizes.get(value.name)
         return None
 
-    def is_known(self, dim: DimId) -> bool:
-        """Whether anything is known of the dimension (not a fresh unknown)."""
-        return not isinstance(self._value[self.find(dim)], _Var)
+    def is_product(self, dim: DimId) -> bool:
+        """Whether the dimension is a product of others (``n·d``, from ``vec`` or ``\\otimes``)."""
+        return isinstance(self._value[self.find(dim)], _Prod)
 
     def text(self, dim: DimId) -> str:
         """A dimension for messages and tables: ``n``, ``3``, ``n·d``, ``_1``."""

@@ -181,6 +181,8 @@ def _table(env: ShapeEnv, sizes: Mapping[str, int]) -> ShapeTable:
     for name, entry in env.table.items():
         if entry.shape is None:
             continue  # seen only with numeric subscripts: independent scalars
+        if any(env.dims.is_product(d) for d in entry.shape):
+            continue  # n·d (a vec or a Kronecker product): the evaluator sizes it from the definition
         symbols[name] = tuple(env.dims.public(d) for d in entry.shape)
         if entry.family is not None:
             families[name] = env.dims.public(entry.family)
