@@ -159,7 +159,7 @@ def _key(chain: Chain, index: int) -> StepKey:
     return (id(chain), index)
 
 
-def _collect_definitions(read: Sequence[ReadChain], sizes: Mapping[str, int]) -> dict[StepKey, Definition]:
+def _collect_definitions(read: Sequence[ReadChain]) -> dict[StepKey, Definition]:
     """Every definition of the document, by the step that states it (SPEC §4)."""
     found: dict[StepKey, Definition] = {}
     defined_by_display: set[str] = set()
@@ -171,7 +171,7 @@ def _collect_definitions(read: Sequence[ReadChain], sizes: Mapping[str, int]) ->
             if lhs is None or rhs is None:
                 continue
             form = defs.definition_form(lhs, chain.sides[index - 1], chain.source, reader)
-            if form is None or not _is_definition(item, index, form, lhs, rhs, defined_by_display, sizes):
+            if form is None or not _is_definition(item, index, form, lhs, rhs, defined_by_display):
                 continue
             found[_key(chain, index)] = Definition(
                 form.name, form.indices, form.params, rhs, chain.source,
@@ -182,12 +182,10 @@ def _collect_definitions(read: Sequence[ReadChain], sizes: Mapping[str, int]) ->
     return found
 
 
-def _is_definition(
-    item: ReadChain, index: int, form: defs.Form, lhs: Node, rhs: Node, defined: set[str], sizes: Mapping[str, int]
-) -> bool:
+def _is_definition(item: ReadChain, index: int, form: defs.Form, lhs: Node, rhs: Node, defined: set[str]) -> bool:
     relation = item.chain.relations[index - 1]
     stated = assumption_of(lhs, rhs, relation.text)
-    if stated is not None and stated[1].value != "diagonal":
+    if stated is not None and stated[1] is not AssumptionKind.DIAGONAL:
         return False  # A = A^\top states a property; it defines nothing
     if defs.defines_by_relation(relation.kind, form):
         return True
@@ -305,12 +303,12 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     facts: RowFacts = read_rows(structure.rows, structure.directives, _reader(vocabulary), vocabulary)
     vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | {d.name for d in facts.declarations})
     read = _read_all(structure, timeline, vocabulary)
-    definitions = _collect_definitions(read, sizes)
+    definitions = _collect_definitions(read)
     taught = _taught(vocabulary, list(definitions.values()))
     if taught != vocabulary:
         vocabulary = taught
         read = _read_all(structure, timeline, vocabulary)
-        definitions = _collect_definitions(read, sizes)
+        definitions = _collect_definitions(read)
     kept = set(map(id, defs.prefer_display(list(definitions.values()))))
     definitions = {k: d for k, d in definitions.items() if id(d) in kept}
     step_assumptions = {
