@@ -22,7 +22,7 @@ from dataclasses import dataclass, field
 from ..source import SourceText, Span
 from .directives import directive_body
 from .files import InputError, display_path, read_document_text
-from .macros import DEFINING_COMMANDS, DefinitionError, match_group, read_definition, skip_space
+from .macros import DefinitionError, match_group, read_definition, skip_space
 from .model import BlockKind, DirectiveText, Document, Excerpt, MacroDefinition, MathBlock, MathProblem, ReaderNote
 
 logger = logging.getLogger(__name__)
@@ -299,7 +299,8 @@ class _Scanner:
         return match.end()
 
     def _block(self, kind: BlockKind, environment: str, span: Span, inner_start: int, inner_end: int) -> None:
-        excerpt = Excerpt.contiguous(self.source.text, inner_start, inner_end)
+        # From the blanked text: a verbatim or \iffalse region inside math is not math either.
+        excerpt = Excerpt.contiguous(self.text, inner_start, inner_end)
         self.out.blocks.append(MathBlock(kind, environment, self.source, excerpt, span, self.out.next_order()))
         self._inner_directives(inner_start, inner_end)
 

@@ -26,6 +26,8 @@ logger = logging.getLogger(__name__)
 
 #: Longest math block read (characters); longer is a parse error, not a long wait.
 MAX_BLOCK_CHARS = 50_000
+#: Math texts up to this length are tokenized once per document and copied after.
+_CACHED_LENGTH = 200
 
 
 @dataclass(frozen=True, slots=True)
@@ -72,6 +74,7 @@ class _Builder:
         self.inline_chains: list[Chain] = []
         self.directives: list[Directive] = []
         self.entries: list[_Entry] = []
+        self._token_cache: dict[str, tuple[Token, ...]] = {}
 
     def build(self) -> Structure:
         switches = self._directives()
@@ -145,7 +148,7 @@ class _Builder:
         contiguous = len(excerpt.file_starts) == 1
         base = excerpt.file_starts[0] if contiguous else 0
         try:
-            tokens = tokenize(excerpt.text, base, None)
+            tokens = self._tokenize(excerpt.text, base)
         except MathSyntaxError as exc:
             span = exc.span or Span(base, base)
             raise MathSyntaxError(exc.message, source, span if contiguous else _to_file(excerpt, span)) from exc
@@ -155,6 +158,21 @@ class _Builder:
         if not contiguous:
             tokens = [Token(t.kind, t.text, _to_file(excerpt, t.span), t.space_before) for t in tokens]
         return self.expander.expand(tokens, order, source)
+
+    def _tokenize(self, text: str, base: int) -> list[Token]:
+        """:func:`tokenize`, remembering short texts: documents repeat small formulas
+        (``$x$``, ``$i$``) many times, and pylatexenc costs far more than a copy."""
+        if len(text) > _CACHED_LENGTH:
+            return tokenize(text, base, None)
+        local = self._token_cache.get(text)
+        if local is None:
+            try:
+                local = tuple(tokenize(text, 0, None))
+            except MathSyntaxError as exc:
+                span = exc.span or Span(0, 0)
+                raise MathSyntaxError(exc.message, None, Span(span.start + base, span.end + base)) from exc
+            self._token_cache[text] = local
+        return [Token(t.kind, t.text, Span(t.span.start + base, t.span.end + base), t.space_before) for t in local]
 
     def _block(self, block: MathBlock, switches: _Switches) -> None:
         try:
