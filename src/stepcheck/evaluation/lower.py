@@ -390,9 +390,21 @@ class Lowerer:
         return Value(-value.data if value.data.ndim else as_array(-value.scalar()), value.labels)
 
     def lower_Add(self, node: N.Add, st: State) -> AnyValue:
-        return self.add([self.lower(t, st) for t in node.terms], st, node)
+        constant = [self._is_constant(t) for t in node.terms]
+        return self.add([self.lower(t, st) for t in node.terms], st, node, constant)
 
-    def add(self, terms: list[AnyValue], st: State, node: N.Node) -> AnyValue:
+    def _is_constant(self, node: N.Node) -> bool:
+        """A purely numeric term (``1``, ``\\tfrac12``, ``n - 1``): constant along every
+        index and added elementwise to a vector or matrix (SPEC §7, §8)."""
+        if isinstance(node, (N.Number, N.Constant, N.Zero)):
+            return True
+        if isinstance(node, N.Symbol):
+            return not node.subs and node.name in self.model.analysis.dimension_values
+        if isinstance(node, (N.Neg, N.Mul, N.Div, N.Pow, N.Add)):
+            return all(self._is_constant(c) for c in node.children())
+        return False
+
+    def add(self, terms: list[AnyValue], st: State, node: N.Node, constant: list[bool] | None = None) -> AnyValue:
         concrete = [t for t in terms if isinstance(t, Value) and t.pos_shape]
         if not concrete:
             concrete = [t for t in terms if isinstance(t, Value)]
@@ -414,15 +426,18 @@ class Lowerer:
             for l, s in v.label_sizes.items():
                 if sizes.setdefault(l, s) != s:
                     raise ShapeMismatch(f"index {l} ranges over {sizes[l]} and {s} values", node.span)
-        for v in values:
+        constant = constant or [False] * len(values)
+        for v, fixed in zip(values, constant):
             missing = [l for l in labels if l not in v.labels]
-            bad = [l for l in missing if not (self.explicit or l in st.bound)]
+            bad = [l for l in missing if not (self.explicit or fixed or l in st.bound)]
             if bad:
                 raise IndexMismatch(f"the terms of a sum have different free indices (index {bad[0]})", node.span)
         pos_shapes = {v.pos_shape for v in values if v.pos_shape}
         if len(pos_shapes) > 1:
             raise ShapeMismatch("a sum of shapes " + " and ".join(shape_text(s) for s in sorted(pos_shapes)), node.span)
         pos = pos_shapes.pop() if pos_shapes else ()
+        if pos and any(not v.pos_shape and not fixed for v, fixed in zip(values, constant)):
+            raise ShapeMismatch(f"a sum of a scalar and a {shape_text(pos)} array (only a number is added elementwise)", node.span)
         target = tuple(sizes[l] for l in labels) + pos
         arrays = [_broadcast(v, tuple(labels), target) for v in values]
         data = obj_array(target, lambda i: sympy.Add(*[a[i] for a in arrays]))
