@@ -7,6 +7,7 @@ no checking logic of its own.
 from __future__ import annotations
 
 import logging
+from dataclasses import replace
 from typing import Callable, Iterable, Sequence
 
 from . import __version__
@@ -18,6 +19,7 @@ from .expressions.chains import Structure, Unreadable
 from .expressions.splitting import structure_of
 from .limits import StepTimeout, time_limit
 from .results import FileNote, FileReport, Outcome, Report, StepResult
+from .context.model import Summation
 from .settings import Settings
 from .source import SourceText
 from .verdicts import RelationKind, Verdict
@@ -95,11 +97,12 @@ def _decide(plan: StepPlan, settings: Settings) -> Outcome:
         return Outcome(Verdict.PARSE_ERROR, message=message, column=span.start)
     assert plan.lhs is not None and plan.rhs is not None
     relation = step.relation.kind
-    findings = list(plan.findings)
-    findings.extend(check_indices(plan.lhs, plan.rhs, plan.context, step.source))
-    if findings:
-        first = findings[0]
-        return Outcome(first.verdict, message=first.message, hint=first.hint, column=first.span.start)
+    if plan.findings:
+        first = plan.findings[0]
+        hint = first.hint
+        if first.verdict is Verdict.INDEX_ERROR and hint is not None and _balances_explicitly(plan):
+            hint = _explicit_reading_hint(plan, settings)
+        return Outcome(first.verdict, message=first.message, hint=hint, column=first.span.start)
     if plan.defines is not None:
         return Outcome(Verdict.DEFINES, message=f"defines {plan.defines.name}")
     if plan.assumes is not None:
@@ -111,6 +114,34 @@ def _decide(plan: StepPlan, settings: Settings) -> Outcome:
     from .evaluation import decide  # sympy loads only when something is decided
 
     return decide(plan.lhs, plan.rhs, relation, plan.context, settings)
+
+
+def _balances_explicitly(plan: StepPlan) -> bool:
+    """Whether the index check said the step balances when read without implicit summation."""
+    if plan.context.no_sum or plan.context.options.summation is Summation.EXPLICIT:
+        return False
+    explicit = replace(plan.context, no_sum=True)
+    assert plan.lhs is not None and plan.rhs is not None
+    return not check_indices(plan.lhs, plan.rhs, explicit, plan.step.source)
+
+
+def _explicit_reading_hint(plan: StepPlan, settings: Settings) -> str | None:
+    """For an index error that balances elementwise: decide the step in that reading, and
+    say so only when it holds there (SPEC §9)."""
+    from .evaluation import decide
+
+    assert plan.lhs is not None and plan.rhs is not None
+    if plan.defines is not None or plan.step.relation.kind is RelationKind.APPROX:
+        return plan.findings[0].hint
+    explicit = replace(plan.context, no_sum=True)
+    outcome = decide(plan.lhs, plan.rhs, plan.step.relation.kind, explicit, settings)
+    if outcome.verdict is Verdict.HOLDS:
+        return (
+            "holds when read without implicit summation (repeated indices elementwise); if "
+            "that is meant, add the directive `summation explicit` or annotate the row with "
+            "\\text{(no sum)}"
+        )
+    return None
 
 
 def _result(plan: StepPlan, outcome: Outcome) -> StepResult:
