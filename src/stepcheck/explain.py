@@ -31,7 +31,8 @@ def explain_reading(reading: SideReading, source: SourceText) -> list[str]:
     """The lines of an explanation for a side already read (``explain FILE:LINE`` uses it)."""
     lines = ["tree:", n.outline(reading.node, 1)]
     lines.append("tensors:")
-    tensors = [_tensor_line(node, source) for node in reading.node.walk() if _is_tensor(node)]
+    found = sorted((node for node in reading.node.walk() if _is_tensor(node)), key=lambda x: x.span.start)
+    tensors = [_tensor_line(node, source) for node in found]
     lines.extend(tensors or ["  (none)"])
     lines.append("readings:")
     readings = sorted(reading.readings, key=lambda r: (r.span.start, -r.span.end, r.rule))

@@ -45,6 +45,8 @@ class CalculusReading:
     starts_symbol: Callable[[Token], bool]
     starts_factor: Callable[..., bool]
     build_symbol: Callable[[Base, Scripts, int], n.Node]
+    sup_kind: Callable[[Script], tuple[str, str | None]]
+    apply_sup: Callable[[n.Node, Script, str, Span], n.Node]
 
     # ----------------------------------------------------------------- fractions
 
@@ -163,13 +165,16 @@ class CalculusReading:
         """variable := symbol ['^' k | '^\\top']  (``x^2`` counts twice)"""
         start = self.s.pos
         tok = self.s.peek()
-        if tok is None or not self.starts_symbol(tok):
+        if tok is not None and tok.kind is TokenKind.OPEN and self.s.match.get(start, self.s.limit) < self.s.limit:
+            node = self._braced_variable(start)
+        elif tok is None or not self.starts_symbol(tok):
             raise self.s.unexpected(tok, "the variable of differentiation (a symbol)")
-        base = self.symbol_base()
-        if not isinstance(base, Base):
-            span = self.s.span_from(start)
-            raise self.s.error(f"the variable of differentiation at {self.s.where(span)} must be a symbol", span)
-        node = self.build_symbol(base, self.read_scripts(), start)
+        else:
+            base = self.symbol_base()
+            if not isinstance(base, Base):
+                span = self.s.span_from(start)
+                raise self.s.error(f"the variable of differentiation at {self.s.where(span)} must be a symbol", span)
+            node = self.build_symbol(base, self.read_scripts(), start)
         repeat, transposed = 1, False
         if isinstance(node, n.Pow) and isinstance(node.exponent, n.Number):
             value = node.exponent.value
@@ -181,6 +186,23 @@ class CalculusReading:
             span = self.s.span_from(start)
             raise self.s.error(f"the variable of differentiation at {self.s.where(span)} must be a symbol", span)
         return [n.Variable(node, transposed, self.s.span_from(start))] * repeat
+
+    def _braced_variable(self, start: int) -> n.Node:
+        """``{W^{(2)}}^\top``: a braced symbol, then its transpose or power."""
+        end = self.s.match[start]
+        inner = self.region(start + 1, end, self.variables)
+        if len(inner) != 1 or inner[0].transposed:
+            span = self.s.tokens[start].span
+            raise self.s.error(f"the braces at {self.s.where(span)} must hold one variable of differentiation", span)
+        self.s.pos = end + 1
+        node: n.Node = inner[0].target
+        scripts = self.read_scripts()
+        for item in scripts.items:
+            if item.mark == "_" or scripts.primes:
+                raise self.s.error(f"a subscript after the braces at {self.s.where(item.span)} is not read", item.span)
+            kind, _ = self.sup_kind(item)
+            node = self.apply_sup(node, item, kind, node.span.join(item.span))
+        return node
 
     def rest(self, owner: Span, what: str) -> n.Node:
         """rest := term — what an operator applies to: the rest of its product term."""

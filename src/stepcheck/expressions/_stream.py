@@ -69,6 +69,12 @@ class Stream:
             elif tok.kind is TokenKind.COMMAND and tok.text in SIZING:
                 i = self._sized(tokens, i)
             else:
+                if tok.kind is TokenKind.NUMBER and not tok.text.isascii():
+                    raise self.error(
+                        f"the character '{tok.text}' at {self.where(tok.span)} is not a LaTeX number "
+                        "(write digits 0-9, and powers with ^)",
+                        tok.span,
+                    )
                 self.tokens.append(tok)
                 self.roles.append(None)
                 i += 1

@@ -353,7 +353,7 @@ class SymbolReading:
         if t.kind is TokenKind.LETTER:
             return [self._name_entry(t, up)], i + 1
         if t.kind is TokenKind.NUMBER:
-            return self._number_entries(t, comma, up), i + 1
+            return (self._number_entries(t, comma, up), i + 1) if t.text.isdigit() else None
         if t.kind is TokenKind.OPEN:
             j = self.s.match.get(i, b)
             inner = self.s.tokens[i + 1 : j]
@@ -387,8 +387,6 @@ class SymbolReading:
         return Entry(None, name, t.span)
 
     def _number_entries(self, t: Token, comma: bool, up: bool) -> list[Entry]:
-        if not t.text.isdigit():
-            raise self.s.error(f"the subscript number '{t.text}' at {self.s.where(t.span)} is not a component", t.span)
         if comma:
             self.note("subscript-digits", t.span, "between commas, a number is one component")
         if comma or len(t.text) == 1:

@@ -341,7 +341,7 @@ def _entries(items: list[n.Index | n.Fixed]) -> str:
     texts = [_entry_text(s) for s in items]
     if all(len(t) == 1 for t in texts):
         return "".join(texts)
-    if len(texts) == 1:
+    if len(texts) == 1 and texts[0].isdigit():
         return "{" + texts[0] + "}"  # one multi-digit component: x_{{10}}
     return ",".join(texts)
 
