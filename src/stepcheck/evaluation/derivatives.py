@@ -36,7 +36,7 @@ from ..context.model import AssumptionKind, Layout
 from ..expressions import nodes as N
 from ..source import Span
 from .lower import Lowerer, State
-from .model import FLOAT_DPS
+from .model import FLOAT_DPS, Env
 from .values import OutOfDomain, Unsupported, Value, make_value, obj_array, shape_text
 
 #: Assumptions that tie components together (derivatives ignore the tie).
@@ -48,12 +48,19 @@ _TIED = frozenset({
 })
 
 
+#: Differentiate per draw, with numbers in place, when inverses or determinants are
+#: differentiated (see :func:`_per_draw`).
+PER_DRAW = True
+
+
 def lower_derivative(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) -> Value:
     """The value of a derivative node in the lowerer's environment."""
     if not lw.env.numeric:
         return _symbolic(lw, node, st)
     if st.overrides:
         raise Unsupported("a derivative inside a definition applied to arguments", node.span)
+    if PER_DRAW and lw.model.analysis.symbolic_matrix_ops:
+        return _per_draw(lw, node, st)
     key = (id(node), st.cache_key())
     entry = lw.model.derivative_cache.get(key)
     if entry is None:
@@ -71,6 +78,26 @@ def lower_derivative(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) ->
             raise Unsupported("a subexpression changed shape between draws", sub_node.span)
         for idx in np.ndindex(*dummies.shape):
             table[dummies[idx]] = filled.data[idx]
+    return value.map(lambda e: _finish(lw, e.xreplace(table) if hasattr(e, "xreplace") else e))
+
+
+def _per_draw(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) -> Value:
+    """Differentiate with every input but the variables already numbers.
+
+    For inverses and determinants the all-symbol expression is large (a 3×3
+    determinant of a product of three symbolic matrices has thousands of terms);
+    with numbers in place it is a small polynomial in the variables, so
+    differentiating afresh per draw is cheaper than substituting into the
+    all-symbol derivative."""
+    names = {v.target.name for v in _variables(lw, node)}
+    names |= {name for name, spec in lw.model.analysis.inputs.items() if spec.chain_variable}
+    values = dict(lw.env.values)
+    for name in names:
+        values[name] = lw.model.symbols(name)
+    mixed = Lowerer(lw.model, Env("symbolic", values, lw.env.functions))
+    value = _symbolic(mixed, node, replace(st, keep=frozenset()))
+    lw.notes.extend(n for n in mixed.notes if n not in lw.notes)
+    table = {k: v for k, v in _substitution(lw).items() if k.name.split("[")[0] in names}
     return value.map(lambda e: _finish(lw, e.xreplace(table) if hasattr(e, "xreplace") else e))
 
 

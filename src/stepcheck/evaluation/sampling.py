@@ -6,7 +6,8 @@ an n×d and a d×n matrix cannot hide; a second assignment rotates them.
 
 Inputs: random Rationals (exact arithmetic; a wrong polynomial identity survives a
 draw from a set this large only with small probability, in the sense of
-Schwartz–Zippel), or small integers when a counterexample is sought, shaped to
+Schwartz–Zippel) — every second draw from a narrow set near zero, where
+inequalities tend to break — or small integers when a counterexample is sought, shaped to
 honour every assumption: symmetric ``B + Bᵀ``, skew ``B − Bᵀ``, SPD ``BBᵀ + I``,
 PSD ``BBᵀ``, orthogonal by the Cayley transform ``(I − S)(I + S)⁻¹`` of a skew S
 (exact in rationals; a signed permutation for small integers), diagonal,
@@ -84,9 +85,15 @@ class Drawer:
         self.rng = rng
         self.small = small
         self.extra = extra or {}
+        self.count = 0
+        self.near = False
+        """Draw from the narrow set (every second draw): inequalities often break only
+        near zero or between 0 and 1."""
 
     def draw(self, mode: str) -> Env:
         """A fresh environment (``mode`` ``"exact"`` or ``"float"``)."""
+        self.near = self.count % 2 == 1
+        self.count += 1
         raw: dict[str, np.ndarray] = {}
         analysis = self.model.analysis
         for name, spec in analysis.inputs.items():
@@ -120,11 +127,12 @@ class Drawer:
         if K.INTEGER in kinds or self.small:
             lo = 1 if K.POSITIVE in kinds else 0 if K.NONNEGATIVE in kinds else -9 if not self.small else -2
             return sympy.Integer(r.randint(lo, 9 if not self.small else 3))
+        top, den = (6, 4) if self.near else (40, 9)
         if K.POSITIVE in kinds:
-            return sympy.Rational(r.randint(1, 40), r.randint(1, 9))
+            return sympy.Rational(r.randint(1, top), r.randint(1, den))
         if K.NONNEGATIVE in kinds:
-            return sympy.Rational(r.randint(0, 40), r.randint(1, 9))
-        return sympy.Rational(r.randint(-40, 40), r.randint(1, 9))
+            return sympy.Rational(r.randint(0, top), r.randint(1, den))
+        return sympy.Rational(r.randint(-top, top), r.randint(1, den))
 
     def _input(self, spec: InputSpec, kinds: frozenset[K]) -> np.ndarray:
         shape = self.model.input_shape(spec)
