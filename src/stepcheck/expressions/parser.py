@@ -30,9 +30,12 @@ from typing import Callable, Iterator, Sequence, TypeVar
 from ..context.model import Vocabulary
 from ..source import SourceError, SourceText, Span
 from . import nodes as n
+from ._brackets import BracketReading
 from ._calculus import CalculusReading
+from ._functions import FunctionReading
 from ._stream import Reading, Stream, describe
-from ._symbols import Base, FunctionName, SymbolBuilding, SymbolReading
+from ._building import SymbolBuilding
+from ._symbols import Base, FunctionName, SymbolReading
 from .errors import ParseError
 from .nodes import Node
 from .tokens import Token, TokenKind, tokenize
@@ -43,13 +46,8 @@ from .vocabulary import (
     BIG_OPERATORS,
     CLOSERS,
     DELIMITERS,
-    DUAL_FUNCTION_COMMANDS,
     FRACTIONS,
     FUNCTION_COMMANDS,
-    FUSED_FUNCTIONS,
-    MATRIX_ENVIRONMENTS,
-    NORM_KINDS,
-    OPERATOR_NAMES,
     PRODUCT_OPERATORS,
     RELATION_TEXTS,
     SLASH_OPERATORS,
@@ -181,7 +179,7 @@ def _stack_frames() -> list[object]:
     return frames
 
 
-class Reader(SymbolReading, SymbolBuilding, CalculusReading):
+class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, CalculusReading):
     """Reads one side; see the module docstring for the grammar."""
 
     def __init__(self, tokens: Sequence[Token], vocabulary: Vocabulary, source: SourceText | None):
@@ -453,45 +451,6 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
             self.note("dual-role-symbol", node.span, f"{base.name} is a symbol here (no parenthesis follows)")
         return node
 
-    def _paren_end(self) -> Span:
-        """The span of the ')' matching the '(' at the cursor (or of the '(' itself)."""
-        depth = 0
-        for i in range(self.s.pos, self.s.limit):
-            tok = self.s.tokens[i]
-            if tok.is_symbol("("):
-                depth += 1
-            elif tok.is_symbol(")"):
-                depth -= 1
-                if depth == 0:
-                    return tok.span
-        return self.s.tokens[self.s.pos].span
-
-    def _function_role(self, base: Base) -> tuple[str | None, bool]:
-        if base.name in self.vocab.functions:
-            return base.name, True
-        if base.kind == "greek" and base.name in DUAL_FUNCTION_COMMANDS and base.name not in self.vocab.tensors:
-            return DUAL_FUNCTION_COMMANDS[base.name], False
-        return None, False
-
-    def at_paren(self) -> bool:
-        """Whether a '(' (or ``\\left(``) that opens stands next."""
-        tok = self.s.peek()
-        return tok is not None and tok.is_symbol("(") and self.s.role() != "close"
-
-    def _power_then_paren(self) -> bool:
-        tok = self.s.peek()
-        if tok is None or tok.kind is not TokenKind.SUP:
-            return False
-        saved = self.s.pos
-        try:
-            self.s.advance()
-            self.argument(tok)
-            return self.at_paren()
-        except ParseError:
-            return False
-        finally:
-            self.s.pos = saved
-
     def scripts_on(self, node: Node, start: int) -> Node:
         """Scripts on a non-symbol: a subscript selects a component (rule ``component``),
         a superscript is a transpose or a power."""
@@ -559,259 +518,3 @@ class Reader(SymbolReading, SymbolBuilding, CalculusReading):
             "knows, nor a macro this document defines",
             tok.span,
         )
-
-    def group(self) -> Node:
-        """group := '{' expression '}'  (rule ``group``)"""
-        tok = self.s.peek()
-        assert tok is not None
-        i = self.s.pos
-        j = self.s.match.get(i)
-        if j is None or j >= self.s.limit:
-            raise self.s.error(f"'{{' at {self.s.where(tok.span)} is never closed", tok.span)
-        if j == i + 1:
-            raise self.s.error(f"an empty group '{{}}' at {self.s.where(tok.span)} is not an operand", tok.span)
-        self.s.pos = j + 1
-        inner = self.region(i + 1, j, self.expression)
-        span = self.s.span_from(i)
-        self.note("group", span, "braces group like parentheses")
-        return dataclasses.replace(inner, span=span)  # type: ignore[type-var]
-
-    def delimited(self) -> Node:
-        """delimited := '(' expression ')' | '[' … ']' | '\\{' … '\\}' | bar expression bar
-        | '\\langle' expression ',' expression '\\rangle'"""
-        start = self.s.pos
-        opener = self.s.advance()
-        closer, kind = DELIMITERS[opener.text]
-        saved_bar = self.open_bar
-        self.open_bar = BAR_KIND.get(opener.text)
-        try:
-            first = self.expression()
-            second = None
-            if kind == "inner":
-                comma = self.s.peek()
-                if comma is None or not comma.is_symbol(","):
-                    raise self._not_closed(opener, "','", "between the two sides of")
-                self.s.advance()
-                second = self.expression()
-            self._close(opener, closer, kind)
-        finally:
-            self.open_bar = saved_bar
-        span = self.s.span_from(start)
-        if kind == "inner":
-            assert second is not None
-            return n.Inner(first, second, span)
-        if opener.text in BARS:
-            self.note("bars", span, "bars pair innermost first; a bar in operand position opens")
-        if kind == "abs":
-            return n.Abs(first, span)
-        if kind == "norm":
-            return self._norm_scripts(n.Norm(first, None, span), start)
-        return dataclasses.replace(first, span=span)  # type: ignore[type-var]
-
-    def _close(self, opener: Token, closer: str, kind: str) -> None:
-        tok = self.s.peek()
-        role = self.s.role()
-        if tok is not None and role != "open":
-            if tok.text == closer or (kind in ("abs", "norm") and BAR_KIND.get(tok.text) == kind):
-                self.s.advance()
-                return
-            if kind == "norm" and tok.text in ("\\rVert",):
-                self.s.advance()
-                return
-        raise self._not_closed(opener, f"'{closer}'")
-
-    def _not_closed(self, opener: Token, expected: str, purpose: str = "to close") -> ParseError:
-        tok = self.s.peek()
-        written = self.s.text_of(opener.span)
-        if tok is None:
-            boundary = self.s.boundary()
-            if boundary is None:
-                return self.s.error(f"'{written}' at {self.s.where(opener.span)} is never closed", opener.span)
-            tok = boundary
-        return self.s.error(
-            f"expected {expected} {purpose} the '{written}' at {self.s.where(opener.span)}, found "
-            f"{describe(tok)} at {self.s.where(tok.span)}",
-            tok.span,
-        )
-
-    def _norm_scripts(self, norm: n.Norm, start: int) -> Node:
-        """A norm's subscript is its kind (2, 1, F, \\infty); a superscript is a power."""
-        node: Node = norm
-        for item in self.read_scripts().items:
-            if item.mark == "_":
-                toks = self.s.tokens[item.start : item.end]
-                key = tuple(t.text.strip() for t in toks if t.kind not in (TokenKind.OPEN, TokenKind.CLOSE))
-                if key not in NORM_KINDS or not isinstance(node, n.Norm):
-                    raise self.s.error(
-                        f"the norm subscript '{self.s.text_of(item.span)}' at {self.s.where(item.span)} is not "
-                        "read (use 1, 2, F or \\infty)",
-                        item.span,
-                    )
-                node = n.Norm(node.operand, NORM_KINDS[key], node.span.join(item.span))
-            else:
-                kind, _ = self.sup_kind(item)
-                node = self.apply_sup(node, item, kind, node.span.join(item.span))
-        return node
-
-    # ----------------------------------------------------------------- functions
-
-    def function_command(self) -> Node:
-        """function-command := \\exp | \\log | … call"""
-        start = self.s.pos
-        tok = self.s.advance()
-        return self.function_call(FUNCTION_COMMANDS[tok.text], False, start)
-
-    def operatorname(self) -> Node:
-        """operatorname := \\operatorname ['*'] '{' letters '}' call"""
-        start = self.s.pos
-        cmd = self.s.advance()
-        starred = self.s.peek() is not None and self.s.peek().is_symbol("*")  # type: ignore[union-attr]
-        if starred:
-            self.s.advance()
-        a, b = self.argument(cmd)
-        toks = self.s.tokens[a:b]
-        name = "".join(t.text for t in toks)
-        if not toks or not all(t.kind in (TokenKind.LETTER, TokenKind.NUMBER) or t.is_symbol("-") for t in toks):
-            span = self.s.span_from(start)
-            raise self.s.error(f"the operator name at {self.s.where(span)} must be letters", span)
-        nxt = self.s.peek()
-        if nxt is not None and nxt.kind is TokenKind.SUB:
-            span = self.s.span_from(start)
-            raise self.s.error(
-                f"the operator '{name}' with a subscript at {self.s.where(span)} (such as argmin_x) is not read", span
-            )
-        if name in OPERATOR_NAMES:
-            return self.function_call(OPERATOR_NAMES[name], False, start)
-        return self.function_call(name, True, start)
-
-    def function_call(self, func: str, user: bool, start: int) -> Node:
-        """call := ['^' argument] ( '(' expression (',' expression)* ')' | '{' expression '}'
-        | factor )   (rules ``function-*``)"""
-        tok = self.s.peek()
-        if tok is not None and tok.kind is TokenKind.COMMAND and (func, FUNCTION_COMMANDS.get(tok.text, "")) in FUSED_FUNCTIONS:
-            self.s.advance()
-            func = FUSED_FUNCTIONS[(func, FUNCTION_COMMANDS[tok.text])]
-        name_span = self.s.span_from(start)
-        power = self._function_power(name_span)
-        if self.at_paren():
-            args = self.argument_list()
-            self.note("function-applied", self.s.span_from(start), _applied(func, user))
-        elif (tok := self.s.peek()) is not None and tok.kind is TokenKind.OPEN:
-            args = (self.group(),)
-            self.note("function-applied", self.s.span_from(start), _applied(func, user))
-        else:
-            args = (self._next_factor(func, name_span),)
-            self.note("function-next-factor", self.s.span_from(start), f"{func} applied to the next factor only")
-        if not user and len(args) != 1:
-            raise self.s.error(f"{func} at {self.s.where(name_span)} takes one argument, not {len(args)}", self.s.span_from(start))
-        node: Node = n.Apply(func, args, user, self.s.span_from(start))
-        node = self.scripts_on(node, start)
-        if power is not None:
-            self.note("function-power", node.span, "the power applies to the function's value")
-            node = n.Pow(node, power, node.span)
-        return node
-
-    def _function_power(self, name_span: Span) -> Node | None:
-        tok = self.s.peek()
-        if tok is not None and tok.kind is TokenKind.SUB:
-            raise self.s.error(
-                f"a subscript on the function at {self.s.where(name_span)} (a base or an index) is not read", tok.span
-            )
-        if tok is None or tok.kind is not TokenKind.SUP:
-            return None
-        scripts = self.read_scripts()
-        if scripts.primes or len(scripts.items) != 1 or scripts.items[0].mark != "^":
-            raise self.s.error(f"only a power may be written on the function at {self.s.where(name_span)}", name_span)
-        item = scripts.items[0]
-        kind, _ = self.sup_kind(item)
-        if kind != "power":
-            raise self.s.error(f"the superscript on the function at {self.s.where(item.span)} must be a power", item.span)
-        return self.exponent(item)
-
-    def _next_factor(self, func: str, name_span: Span) -> Node:
-        tok = self.s.peek()
-        if tok is not None and tok.is_symbol("-"):
-            at = self.s.pos
-            self.s.advance()
-            return n.Neg(self._next_factor(func, name_span), self.s.span_from(at))
-        if tok is None or not self.starts_factor(tok, operand=True):
-            raise self.s.error(f"the function {func} at {self.s.where(name_span)} needs an argument", name_span)
-        return self.factor()
-
-    def argument_list(self) -> tuple[Node, ...]:
-        """arguments := '(' expression (',' expression)* ')'"""
-        opener = self.s.advance()
-        saved_bar, self.open_bar = self.open_bar, None
-        try:
-            args = [self.expression()]
-            while (tok := self.s.peek()) is not None and tok.is_symbol(","):
-                self.s.advance()
-                args.append(self.expression())
-            self._close(opener, ")", "paren")
-        finally:
-            self.open_bar = saved_bar
-        return tuple(args)
-
-    # ----------------------------------------------------------------- matrices
-
-    def matrix(self) -> Node:
-        """matrix := \\begin{env} row ('\\\\' row)* \\end{env};  row := expression ('&' expression)*"""
-        start = self.s.pos
-        begin = self.s.advance()
-        env = begin.text
-        meaning = MATRIX_ENVIRONMENTS.get(env)
-        if meaning is None:
-            raise self.s.error(f"the environment '{env}' at {self.s.where(begin.span)} is not read inside an expression", begin.span)
-        saved_bar, self.open_bar = self.open_bar, None
-        try:
-            rows = self._matrix_rows(begin)
-        finally:
-            self.open_bar = saved_bar
-        span = self.s.span_from(start)
-        widths = {len(row) for row in rows}
-        if len(widths) != 1:
-            raise self.s.error(f"the rows of the {env} at {self.s.where(begin.span)} have different lengths", span)
-        node: Node = n.MatrixLiteral(tuple(rows), span)
-        if meaning == "det":
-            self.note("vmatrix", span, "the determinant of the matrix")
-            node = n.Apply("det", (node,), False, span)
-        return node
-
-    def _matrix_rows(self, begin: Token) -> list[tuple[Node, ...]]:
-        rows: list[tuple[Node, ...]] = []
-        row: list[Node] = []
-        while True:
-            tok = self.s.peek()
-            if tok is None:
-                raise self.s.error(f"\\begin{{{begin.text}}} at {self.s.where(begin.span)} is never closed", begin.span)
-            if tok.kind is TokenKind.END:
-                if tok.text != begin.text:
-                    raise self.s.unexpected(tok, f"\\end{{{begin.text}}}")
-                self.s.advance()
-                break
-            if tok.kind is TokenKind.ROW_BREAK:
-                self.s.advance()
-                if row:
-                    rows.append(tuple(row))
-                row = []
-                continue
-            row.append(self.expression())
-            tok = self.s.peek()
-            if tok is not None and tok.kind is TokenKind.ALIGN:
-                self.s.advance()
-                nxt = self.s.peek()
-                if nxt is not None and nxt.kind in (TokenKind.ROW_BREAK, TokenKind.END, TokenKind.ALIGN):
-                    raise self.s.error(f"an empty matrix entry at {self.s.where(nxt.span)}", nxt.span)
-            elif tok is None or tok.kind not in (TokenKind.ROW_BREAK, TokenKind.END):
-                raise self.s.unexpected(tok, f"'&', '\\\\' or \\end{{{begin.text}}}")
-        if row:
-            rows.append(tuple(row))
-        if not rows:
-            raise self.s.error(f"the {begin.text} at {self.s.where(begin.span)} is empty", begin.span)
-        return rows
-
-
-def _applied(func: str, user: bool) -> str:
-    if func == "sigma":
-        return "the logistic function applied"
-    return f"the declared function {func} applied" if user else f"the function {func} applied"
