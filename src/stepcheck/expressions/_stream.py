@@ -83,7 +83,7 @@ class Stream:
         sizing = tokens[i]
         role = SIZING[sizing.text]
         if role == "middle":
-            raise self.error(UNSUPPORTED["\\middle"], sizing.span)
+            raise self.error(UNSUPPORTED[sizing.text] + f" (at {self.where(sizing.span)})", sizing.span)
         j = i + 1
         while j < len(tokens) and tokens[j].kind is TokenKind.COMMENT:
             j += 1
