@@ -52,6 +52,7 @@ from .vocabulary import (
     RELATION_TEXTS,
     SLASH_OPERATORS,
     UNSUPPORTED,
+    UNSUPPORTED_NAMES,
 )
 
 logger = logging.getLogger(__name__)
@@ -431,11 +432,20 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
 
     def after_base(self, base: Base, start: int) -> Node:
         """A base's application (dual-role and declared functions) or its scripts."""
+        if base.name in UNSUPPORTED_NAMES and base.name not in self.vocab.tensors:
+            raise self.s.error(f"{UNSUPPORTED_NAMES[base.name]} (at {self.s.where(base.span)})", base.span)
         func, user = self._function_role(base)
         if func is not None and (self.at_paren() or (user and self._power_then_paren())):
             return self.function_call(func, user, start)
         scripts = self.read_scripts()
         node = self.build_symbol(base, scripts, start)
+        if self.at_paren() and scripts.primes and not self.s.peek().space_before:  # type: ignore[union-attr]
+            span = node.span.join(self._paren_end())
+            raise self.s.error(
+                f"'{self.s.text_of(span)}' at {self.s.where(span)}: a primed function (a derivative in prime "
+                "notation) is not read; write the derivative out or name it",
+                span,
+            )
         if self.at_paren() and isinstance(node, n.Symbol):
             if func is not None:
                 raise self.s.error(

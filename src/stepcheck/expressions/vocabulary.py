@@ -237,6 +237,13 @@ UNSUPPORTED: dict[str, str] = {
     "\\star": "'\\star' between factors is not read (write \\cdot or juxtapose)",
 }
 
+#: Symbol names the reader refuses (unless declared as tensors), with the reason it gives.
+UNSUPPORTED_NAMES: dict[str, str] = {
+    "\\mathbb{E}": "an expectation (\\mathbb{E}) is not read",
+    "\\mathbb{P}": "a probability (\\mathbb{P}) is not read",
+    "\\mathbb{V}": "a variance (\\mathbb{V}) is not read",
+}
+
 # --------------------------------------------------------------------------- delimiters
 
 #: Opening delimiter → (closing delimiter, kind).  Kinds: ``paren`` (grouping),
