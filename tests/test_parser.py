@@ -207,6 +207,12 @@ def test_nesting_past_the_limit_is_a_parse_error() -> None:
         parse_latex("(" * depth + "x" + ")" * depth)
 
 
+@pytest.mark.parametrize("operator", [r"\sum_i ", r"\nabla ", r"\partial_x ", r"\hat", "\\mathbf"])
+def test_long_operator_chains_end_in_a_parse_error(operator: str) -> None:
+    with pytest.raises(ParseError, match="nests"):
+        parse_latex(operator * 1200 + " x")
+
+
 def test_a_huge_side_is_refused_quickly() -> None:
     text = " + ".join(f"x_{{{i % 9 + 1}}}" for i in range(1500))
     started = time.perf_counter()

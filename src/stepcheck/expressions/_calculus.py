@@ -36,6 +36,8 @@ class CalculusReading:
     vocab: Vocabulary
     expression: Callable[[], n.Node]
     term: Callable[[], n.Node]
+    enter: Callable[[Token | None], None]
+    leave: Callable[[], None]
     note: Callable[[str, Span, str], None]
     region: Callable[[int, int, Callable[[], T]], T]
     attempt: Callable[[Callable[[], T]], T | None]
@@ -209,7 +211,11 @@ class CalculusReading:
         tok = self.s.peek()
         if tok is None or not (tok.is_symbol("-") or self.starts_factor(tok, operand=True)):
             raise self.s.error(f"{what} at {self.s.where(owner)} needs an expression after it", owner)
-        return self.term()
+        self.enter(tok)
+        try:
+            return self.term()
+        finally:
+            self.leave()
 
     # ----------------------------------------------------------------- operators
 
