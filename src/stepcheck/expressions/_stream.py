@@ -13,7 +13,7 @@ from typing import Sequence
 from ..source import SourceText, Span
 from .errors import ParseError
 from .tokens import Token, TokenKind
-from .vocabulary import ACCENTS, BOLD_FONTS, DROPPED, FRACTIONS, NAMED_FONTS, PLAIN_FONTS, SIZING, UNSUPPORTED
+from .vocabulary import ACCENTS, BOLD_FONTS, DROPPED, FRACTIONS, NAMED_FONTS, PLAIN_FONTS, SIZING, UNSUPPORTED, UNSUPPORTED_SYMBOLS
 
 #: Commands dropped together with the brace group after them.
 _DROPPED_WITH_GROUP = frozenset({"\\hspace", "\\vspace", "\\phantom", "\\hphantom", "\\vphantom", "\\mspace"})
@@ -180,6 +180,10 @@ class Stream:
             else:
                 what = "unexpected end of the expression"
             span = self.end_span()
+        elif tok.kind is TokenKind.SYMBOL and tok.text in UNSUPPORTED_SYMBOLS:
+            what = f"{UNSUPPORTED_SYMBOLS[tok.text]} (at {self.where(tok.span)})"
+            span = tok.span
+            expected = None
         else:
             what = f"unexpected {describe(tok)} at {self.where(tok.span)}"
             span = tok.span

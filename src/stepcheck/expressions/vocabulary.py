@@ -237,6 +237,12 @@ UNSUPPORTED: dict[str, str] = {
     "\\star": "'\\star' between factors is not read (write \\cdot or juxtapose)",
 }
 
+#: Characters the reader refuses where an operator or operand is due, with the reason.
+UNSUPPORTED_SYMBOLS: dict[str, str] = {
+    "*": "'*' is not read as a product: write \\cdot or put the factors side by side",
+    "!": "factorials are not read",
+}
+
 #: Symbol names the reader refuses (unless declared as tensors), with the reason it gives.
 UNSUPPORTED_NAMES: dict[str, str] = {
     "\\mathbb{E}": "an expectation (\\mathbb{E}) is not read",
