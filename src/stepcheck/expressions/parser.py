@@ -11,8 +11,11 @@ A recursive-descent reader with precedence levels over the flat token stream of
     primary       := number | group | delimited | fraction | root | sum | derivative
                    | gradient | function call | matrix
 
-Symbols and scripts live in :mod:`._symbols`, fractions, derivatives and sums in
-:mod:`._calculus`.  Every reading the text leaves open is decided by a rule of
+The reader is one class assembled from mixins, one concern each: symbols and their
+scripts (:mod:`._symbols`, :mod:`._building`), function application (:mod:`._functions`),
+brackets, bars and matrix literals (:mod:`._brackets`), fractions, derivatives and sums
+(:mod:`._calculus`); :mod:`._stream` is the token cursor.  Every reading the text leaves
+open is decided by a rule of
 :data:`.vocabulary.AMBIGUITY_RULES`; the reader records each one it meets (see
 :func:`read_side`), which ``explain`` shows.
 """
@@ -33,9 +36,9 @@ from . import nodes as n
 from ._brackets import BracketReading
 from ._calculus import CalculusReading
 from ._functions import FunctionReading
-from ._stream import Reading, Stream, describe
 from ._building import SymbolBuilding
-from ._symbols import Base, FunctionName, SymbolReading
+from ._stream import Reading, Stream, describe
+from ._symbols import Base, FunctionName, Script, SymbolReading
 from .errors import ParseError
 from .nodes import Node
 from .tokens import Token, TokenKind, tokenize
@@ -481,14 +484,14 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
             node = self.apply_sup(node, item, kind, node.span.join(item.span))
         return node
 
-    def _component(self, node: Node, item: object) -> Node:
+    def _component(self, node: Node, item: Script) -> Node:
         entries = self.sub_entries(item) or []
-        span = node.span.join(item.span)  # type: ignore[attr-defined]
+        span = node.span.join(item.span)
         if isinstance(node, n.Number) or any(e.node is None for e in entries):
             raise self.s.error(
-                f"the subscript '{self.s.text_of(item.span)}' at {self.s.where(item.span)} "  # type: ignore[attr-defined]
+                f"the subscript '{self.s.text_of(item.span)}' at {self.s.where(item.span)} "
                 "must hold indices or components to select a component",
-                item.span,  # type: ignore[attr-defined]
+                item.span,
             )
         self.note("component", span, "a component of the expression")
         return n.Component(node, tuple(e.node for e in entries if e.node is not None), span)
