@@ -141,7 +141,9 @@ class Analysis:
     positive_inputs: set[str] = field(default_factory=set)
     spd_inputs: set[str] = field(default_factory=set)
     big_power: bool = False
-    """An integer power too large to expand or to evaluate exactly."""
+    """An integer power too large to expand symbolically."""
+    huge_power: bool = False
+    """An integer power too large to evaluate in exact arithmetic."""
 
     def range_of(self, key: Key) -> Key:
         return self.uf.find(key)
@@ -161,8 +163,6 @@ class Walker:
         self._visiting: list[str] = []
         self._visited_defs: set[tuple[str, frozenset[str]]] = set()
         self._cross_nodes: list[N.Cross] = []
-        for letter, size in context.shapes.sizes.items():
-            self.a.uf.fix(dim_key(letter), size)
 
     # ------------------------------------------------------------------ entry
 
@@ -170,6 +170,8 @@ class Walker:
         for side in sides:
             self.visit(side, scope=(("main",),), frozen=frozenset(), bound_names=frozenset(), in_diff=False)
         self._classify()
+        for letter, size in self.context.shapes.sizes.items():
+            self.a.uf.fix(dim_key(letter), size)
         for node in self._cross_nodes:
             self._fix_cross(node)
         return self.a
@@ -359,6 +361,7 @@ class Walker:
             self._mark_positive(node.base)
         elif abs(exp) > 64:
             self.a.big_power = True
+            self.a.huge_power = self.a.huge_power or abs(exp) > 1000
         elif exp < 0 and in_diff:
             self.a.symbolic_matrix_ops = True
 

@@ -27,6 +27,8 @@ logger = logging.getLogger(__name__)
 
 #: Draws that may fall outside a domain before a step is given up as unsupported.
 MAX_REDRAWS = 40
+#: Inequalities are sampled this many times more than equalities.
+INEQUALITY_FACTOR = 4
 #: Largest expression (sympy ``count_ops``) the symbolic proof attempts.
 PROOF_OPS = 400
 #: Largest expression ``simplify`` is tried on (it is slow beyond).
@@ -51,7 +53,7 @@ class Decider:
         self.context = context
         self.settings = settings
         self.analysis: Analysis = analyse(lhs, rhs, context)
-        self.mode = "float" if self.analysis.transcendental or self.analysis.big_power else "exact"
+        self.mode = "float" if self.analysis.transcendental or self.analysis.huge_power else "exact"
         self.notes: list[str] = []
         self._models: dict[tuple, Model] = {}
 
@@ -143,6 +145,8 @@ class Decider:
 
     def trials_per_assignment(self, assignments: list) -> int:
         trials = max(1, self.settings.trials)
+        if self.relation in (RelationKind.ORDER, RelationKind.LOEWNER, RelationKind.NOT_EQUAL):
+            trials *= INEQUALITY_FACTOR  # a counterexample may sit in a small region
         return trials if len(assignments) > 1 else 2 * trials
 
     # ------------------------------------------------------------------ deciding

@@ -6,7 +6,7 @@ an n×d and a d×n matrix cannot hide; a second assignment rotates them.
 
 Inputs: random Rationals (exact arithmetic; a wrong polynomial identity survives a
 draw from a set this large only with small probability, in the sense of
-Schwartz–Zippel) — every second draw from a narrow set near zero, where
+Schwartz–Zippel) — in turn with draws near zero and proper fractions, where
 inequalities tend to break — or small integers when a counterexample is sought, shaped to
 honour every assumption: symmetric ``B + Bᵀ``, skew ``B − Bᵀ``, SPD ``BBᵀ + I``,
 PSD ``BBᵀ``, orthogonal by the Cayley transform ``(I − S)(I + S)⁻¹`` of a skew S
@@ -86,13 +86,14 @@ class Drawer:
         self.small = small
         self.extra = extra or {}
         self.count = 0
-        self.near = False
-        """Draw from the narrow set (every second draw): inequalities often break only
-        near zero or between 0 and 1."""
+        self.spread = 0
+        """Which set this draw takes entries from, in turn: wide rationals, rationals
+        near zero, proper fractions in (−1, 1) — inequalities often break only near
+        zero or between 0 and 1."""
 
     def draw(self, mode: str) -> Env:
         """A fresh environment (``mode`` ``"exact"`` or ``"float"``)."""
-        self.near = self.count % 2 == 1
+        self.spread = self.count % 3
         self.count += 1
         raw: dict[str, np.ndarray] = {}
         analysis = self.model.analysis
@@ -127,7 +128,11 @@ class Drawer:
         if K.INTEGER in kinds or self.small:
             lo = 1 if K.POSITIVE in kinds else 0 if K.NONNEGATIVE in kinds else -9 if not self.small else -2
             return sympy.Integer(r.randint(lo, 9 if not self.small else 3))
-        top, den = (6, 4) if self.near else (40, 9)
+        if self.spread == 2:
+            q = r.randint(2, 9)
+            p = r.randint(1 if K.POSITIVE in kinds else 0 if K.NONNEGATIVE in kinds else 1 - q, q - 1)
+            return sympy.Rational(p, q)
+        top, den = (4, 5) if self.spread == 1 else (40, 9)
         if K.POSITIVE in kinds:
             return sympy.Rational(r.randint(1, top), r.randint(1, den))
         if K.NONNEGATIVE in kinds:

@@ -135,6 +135,7 @@ class Value:
 
 def make_value(data: np.ndarray, labels: tuple[str, ...] = ()) -> Value:
     """A value with its 1×1 positional part normalised to a scalar."""
+    data = as_array(data)
     pos = data.shape[len(labels):]
     if len(pos) == 2 and pos == (1, 1):
         data = data.reshape(data.shape[: len(labels)])

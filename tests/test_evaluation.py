@@ -1,0 +1,322 @@
+"""Deciding steps: methods and their messages, sizes, seeds, assumptions honoured by
+the draws, inequalities, uninterpreted functions, errors, and cost control.
+
+Scenarios are invented: a bridge-cable tension model, a heat exchanger, a recommender's
+embedding, a parcel router's scores.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import time
+
+import pytest
+
+from decide_helpers import decide_latex, decide_nodes, make_context, num, sym
+from stepcheck.evaluation.deciding import Decider
+from stepcheck.expressions import nodes as N
+from stepcheck.limits import StepTimeout, time_limit
+from stepcheck.settings import Settings
+from stepcheck.source import Span
+from stepcheck.verdicts import Method, RelationKind, Verdict
+
+MATRICES = {"A": ("n", "m"), "B": ("m", "p"), "C": ("p", "n")}
+
+
+# --------------------------------------------------------------------------- methods and messages
+
+
+def test_scalar_identity_is_proved_symbolically():
+    outcome = decide_latex(r"(a + b)^2", r"a^2 + 2ab + b^2")
+    assert (outcome.verdict, outcome.method, outcome.message) == (Verdict.HOLDS, Method.SYMBOLIC, "proved symbolically")
+
+
+def test_matrix_identity_is_sampled_exactly_at_two_distinct_assignments():
+    outcome = decide_latex(r"(A B)^\top", r"B^\top A^\top", shapes=MATRICES)
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.EXACT_SAMPLE
+    assert outcome.message == "held exactly on 8 random draws at sizes n=2,m=3,p=4 and n=3,m=4,p=2"
+
+
+def test_sizes_are_distinct_within_each_assignment():
+    outcome = decide_latex(r"\operatorname{tr}(A B C)", r"\operatorname{tr}(C A B)", shapes=MATRICES)
+    for assignment in re.findall(r"n=(\d),m=(\d),p=(\d)", outcome.message):
+        assert len(set(assignment)) == 3
+
+
+def test_transcendental_identity_is_sampled_in_floating_point():
+    # a parcel router's softmax does not change when every score shifts by the same c
+    outcome = decide_latex(
+        r"\operatorname{softmax}(\mathbf{s} + c\mathbf{1})", r"\operatorname{softmax}(\mathbf{s})", shapes={"s": ("k",)}
+    )
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.FLOAT_SAMPLE
+    assert re.fullmatch(
+        r"held in floating point \(30 digits\) on 8 random draws at sizes k=2 and k=3; largest relative error \d\.\de[-+]\d\d",
+        outcome.message,
+    )
+
+
+def test_trials_setting_counts_draws():
+    outcome = decide_latex(r"(A B)^\top", r"B^\top A^\top", shapes=MATRICES, trials=3)
+    assert "on 6 random draws" in outcome.message
+
+
+def test_every_size_fixed_gives_a_symbolic_proof_at_that_size():
+    outcome = decide_latex(r"\exp(\mathbf{u})^\top \exp(\mathbf{u})", r"\mathbf{1}^\top \exp(2\mathbf{u})",
+                           shapes={"u": ("d",)}, sizes={"d": 3})
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.SYMBOLIC
+    assert outcome.message == "proved symbolically at the fixed sizes d=3"
+
+
+def test_one_assignment_when_every_size_is_fixed_doubles_the_draws():
+    # an inequality is never proved symbolically: 2 × 4 × trials draws at the one assignment
+    outcome = decide_latex(r"\mathbf{u}^\top \mathbf{u}", r"0", relation="\\ge", shapes={"u": ("d",)}, sizes={"d": 3}, trials=3)
+    assert outcome.message == "held exactly on 24 random draws at sizes d=3; no counterexample found"
+
+
+def test_a_fixed_size_is_honoured_and_free_sizes_avoid_it():
+    outcome = decide_latex(r"(A B)^\top", r"B^\top A^\top", shapes={"A": ("n", "d"), "B": ("d", "m")}, sizes={"d": 3})
+    assert outcome.message == "held exactly on 8 random draws at sizes n=2,d=3,m=4 and n=4,d=3,m=2"  # never n or m = 3
+
+
+def test_same_seed_same_outcome_other_seed_same_verdict():
+    args = (r"\frac{\partial}{\partial \mathbf{x}} \mathbf{x}^\top B \mathbf{x}", r"2 B \mathbf{x}")
+    kw = {"shapes": {"x": ("n",), "B": ("n", "n")}, "layout": "denominator"}
+    first, second = decide_latex(*args, **kw), decide_latex(*args, **kw)
+    assert first == second
+    other = decide_latex(*args, seed=7, **kw)
+    assert other.verdict is first.verdict is Verdict.FAILS
+
+
+def test_scalar_zero_side_matches_an_all_zero_value():
+    outcome = decide_latex(r"\frac{\partial}{\partial \mathbf{x}} \mathbf{a}^\top \mathbf{b}", r"0",
+                           shapes={"x": ("n",), "a": ("n",), "b": ("n",)})
+    assert outcome.verdict is Verdict.HOLDS
+
+
+def test_index_side_matches_matrix_side_in_order_of_first_appearance():
+    shapes = {"X": ("n", "d"), "w": ("d",), "y": ("n",)}
+    defs = {"L": r"\tfrac12 \|X\mathbf{w} - \mathbf{y}\|^2"}
+    assert decide_latex(r"\frac{\partial L}{\partial w_j}", r"X^\top (X\mathbf{w} - \mathbf{y})",
+                        shapes=shapes, definitions=defs).verdict is Verdict.HOLDS
+    assert decide_latex(r"A_{ij}", r"A", shapes={"A": ("n", "m")}).verdict is Verdict.HOLDS
+    transposed = decide_latex(r"A_{ij}", r"A^\top", shapes={"A": ("n", "m")})
+    assert transposed.verdict is Verdict.SHAPE_ERROR
+    assert transposed.message == "index i ranges over 2 values but the matrix side is 3×2"
+
+
+def test_equiv_is_checked_like_equality():
+    outcome = decide_latex(r"(A B)^\top", r"B^\top A^\top", relation="\\equiv", shapes=MATRICES)
+    assert outcome.verdict is Verdict.HOLDS
+
+
+def test_hand_built_trees_decide_without_the_reader():
+    ctx = make_context(shapes={"x": ("n",)})
+    lhs = N.Mul((sym("x", "i"), sym("x", "i")), Span(0, 0))
+    rhs = N.BigOp("sum", (N.Binding("i", None, None, Span(0, 0)),),
+                  N.Pow(sym("x", "i"), num(2), Span(0, 0)), Span(0, 0))
+    assert decide_nodes(lhs, rhs, ctx).verdict is Verdict.HOLDS
+
+
+# --------------------------------------------------------------------------- assumptions honoured by the draws
+
+ASSUMED = [
+    pytest.param(r"Q^\top Q", r"I", {"Q": ("n", "n")}, {"Q": {"orthogonal"}}, "=", id="orthogonal-cayley"),
+    pytest.param(r"\mathbf{x}^\top S \mathbf{x}", r"0", {"x": ("n",), "S": ("n", "n")}, {"S": {"skew"}}, "=", id="skew"),
+    pytest.param(r"A", r"A^\top", {"A": ("n", "n")}, {"A": {"symmetric"}}, "=", id="symmetric"),
+    pytest.param(r"D E", r"E D", {"D": ("n", "n"), "E": ("n", "n")}, {"D": {"diagonal"}, "E": {"diagonal"}}, "=", id="diagonal"),
+    pytest.param(r"(L M)_{12}", r"0", {"L": ("n", "n"), "M": ("n", "n")},
+                 {"L": {"lower-triangular"}, "M": {"lower-triangular"}}, "=", id="lower-triangular"),
+    pytest.param(r"(U V)_{21}", r"0", {"U": ("n", "n"), "V": ("n", "n")},
+                 {"U": {"upper-triangular"}, "V": {"upper-triangular"}}, "=", id="upper-triangular"),
+    pytest.param(r"\mathbf{1}^\top \mathbf{p}", r"1", {"p": ("n",)}, {"p": {"probability"}}, "=", id="probability"),
+    pytest.param(r"\mathbf{1}^\top \mathbf{q}", r"1", {"q": ("n",)}, {"q": {"sums-to-one"}}, "=", id="sums-to-one"),
+    pytest.param(r"\mathbf{e}^\top \mathbf{e}", r"1", {"e": ("n",)}, {"e": {"one-hot"}}, "=", id="one-hot"),
+    pytest.param(r"\cos(2\pi k)", r"1", {}, {"k": {"integer"}}, "=", id="integer"),
+    pytest.param(r"\sqrt{t^2}", r"t", {}, {"t": {"positive"}}, "=", id="positive"),
+    pytest.param(r"\mathbf{x}^\top \Sigma \mathbf{x}", r"0", {"x": ("n",), r"\Sigma": ("n", "n")}, {r"\Sigma": {"spd"}},
+                 ">", id="spd"),
+    pytest.param(r"\mathbf{x}^\top P \mathbf{x}", r"0", {"x": ("n",), "P": ("n", "n")}, {"P": {"psd"}},
+                 "\\ge", id="psd"),
+]
+
+
+@pytest.mark.parametrize("lhs, rhs, shapes, assumptions, relation", ASSUMED)
+def test_draws_honour_assumptions(lhs, rhs, shapes, assumptions, relation):
+    held = decide_latex(lhs, rhs, relation, shapes=shapes, assumptions=assumptions)
+    assert held.verdict is Verdict.HOLDS, held.message
+    without = decide_latex(lhs, rhs, relation, shapes=shapes)
+    assert without.verdict is Verdict.FAILS, without.message
+    assert without.counterexample is not None
+
+
+def test_inputs_under_log_and_sqrt_are_drawn_positive():
+    assert decide_latex(r"\log(a b)", r"\log a + \log b").verdict is Verdict.HOLDS
+    assert decide_latex(r"\sqrt{a}\sqrt{a}", r"a").verdict is Verdict.HOLDS
+
+
+def test_logdet_argument_is_drawn_spd():
+    outcome = decide_latex(r"\log\det(W^2)", r"2\log\det W", shapes={"W": ("n", "n")})
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.FLOAT_SAMPLE
+
+
+# --------------------------------------------------------------------------- inequalities
+
+
+def test_order_relation_holds_by_sampling():
+    outcome = decide_latex(r"\mathbf{x}^\top \mathbf{x}", r"0", relation="\\ge", shapes={"x": ("n",)})
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.EXACT_SAMPLE
+    assert outcome.message == "held exactly on 32 random draws at sizes n=2 and n=3; no counterexample found"
+
+
+def test_order_relation_counterexample_refutes():
+    outcome = decide_latex(r"t^2", r"t", relation="\\ge")
+    assert outcome.verdict is Verdict.FAILS
+    t = outcome.counterexample["inputs"]["t"]
+    value = eval_fraction(t)
+    assert value**2 < value  # a t in (0, 1), checkable by hand
+
+
+def eval_fraction(text):
+    from fractions import Fraction
+
+    return Fraction(text) if isinstance(text, str) else Fraction(text)
+
+
+def test_order_with_free_indices_holds_componentwise():
+    outcome = decide_latex(r"x_i^2", r"x_i - \tfrac14", relation="\\ge", shapes={"x": ("n",)})
+    assert outcome.verdict is Verdict.HOLDS
+    strict = decide_latex(r"x_i^2", r"x_i - \tfrac14", relation=">", shapes={"x": ("n",)})
+    assert strict.verdict is Verdict.FAILS  # x_i = 1/2 makes one component equal
+
+
+def test_strict_order_of_transcendental_values():
+    # a heat exchanger's effectiveness 1 − e^{−N} stays below 1 for positive N
+    outcome = decide_latex(r"1 - e^{-N}", r"1", relation="<", assumptions={"N": {"positive"}})
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.FLOAT_SAMPLE
+
+
+def test_not_equal():
+    assert decide_latex(r"x^2 + 1", r"0", relation="\\neq").verdict is Verdict.HOLDS
+    same = decide_latex(r"2x", r"x + x", relation="\\neq")
+    assert same.verdict is Verdict.FAILS and same.message == "the sides are equal on a draw at scalar inputs"
+
+
+def test_loewner_order():
+    shapes = {"A": ("n", "m"), r"\Sigma": ("m", "m")}
+    assert decide_latex(r"A^\top A", r"0", relation="\\succeq", shapes=shapes).verdict is Verdict.HOLDS
+    assert decide_latex(r"\Sigma + A^\top A", r"\Sigma", relation="\\succeq", shapes=shapes,
+                        assumptions={r"\Sigma": {"spd"}}).verdict is Verdict.HOLDS
+    assert decide_latex(r"\Sigma", r"0", relation="\\succ", shapes=shapes,
+                        assumptions={r"\Sigma": {"spd"}}).verdict is Verdict.HOLDS
+    wrong = decide_latex(r"A^\top A", r"0", relation="\\preceq", shapes=shapes)
+    assert wrong.verdict is Verdict.FAILS and wrong.counterexample is not None
+    indefinite = decide_latex(r"\Sigma", r"0", relation="\\succ", shapes=shapes, assumptions={r"\Sigma": {"symmetric"}})
+    assert indefinite.verdict is Verdict.FAILS
+
+
+def test_order_without_its_written_direction_is_unsupported():
+    ctx = make_context()
+    lhs, rhs = N.Pow(sym("x"), num(2), Span(0, 0)), num(0)
+    outcome = decide_nodes(lhs, rhs, ctx, relation="\\ge")
+    assert outcome.verdict is Verdict.HOLDS
+    from stepcheck import evaluation
+
+    blind = evaluation.decide(lhs, rhs, RelationKind.ORDER, ctx, Settings())
+    assert blind.verdict is Verdict.UNSUPPORTED
+    assert blind.message == "the direction of the relation order is not known"
+
+
+# --------------------------------------------------------------------------- uninterpreted functions
+
+
+def test_user_functions_must_agree_as_functions():
+    assert decide_latex(r"f(x) + f(x)", r"2 f(x)", functions=["f"]).verdict is Verdict.HOLDS
+    assert decide_latex(r"g(x, y)", r"g(x, y)", functions=["g"]).verdict is Verdict.HOLDS
+    wrong = decide_latex(r"f(x + y)", r"f(x) + f(y)", functions=["f"])
+    assert wrong.verdict is Verdict.FAILS
+    assert "f (polynomial coefficients)" in wrong.counterexample["inputs"]
+
+
+def test_user_function_of_a_vector_is_elementwise_only_for_one_argument():
+    outcome = decide_latex(r"g(\mathbf{x}, \mathbf{y})", r"g(\mathbf{y}, \mathbf{x})", functions=["g"],
+                           shapes={"x": ("n",), "y": ("n",)})
+    assert outcome.verdict is Verdict.UNSUPPORTED
+    assert outcome.message == "the function g applied to arguments that are not scalars"
+
+
+# --------------------------------------------------------------------------- errors
+
+
+def test_shape_error_names_both_shapes():
+    outcome = decide_latex(r"A", r"B", shapes={"A": ("n", "m"), "B": ("n", "n")})
+    assert outcome.verdict is Verdict.SHAPE_ERROR
+    assert outcome.message == "the left side is 2×3 and the right side is 2×2"
+
+
+def test_different_free_indices_are_an_index_error():
+    outcome = decide_latex(r"x_i", r"x_j", shapes={"x": ("n",)})
+    assert outcome.verdict is Verdict.INDEX_ERROR
+    assert outcome.message == "the left side has free indices {i} and the right side {j}"
+
+
+def test_unknown_construct_is_unsupported_naming_it():
+    outcome = decide_latex(r"\mathbf{x}^3", r"\mathbf{x}", shapes={"x": ("n",)})
+    assert outcome.verdict is Verdict.UNSUPPORTED
+    assert outcome.message == "a power of a 2×1 array (write \\|x\\|^2 or x^\\top x)"
+
+
+def test_no_draw_inside_the_domain_is_unsupported():
+    outcome = decide_latex(r"\frac{1}{x - x}", r"0")
+    assert outcome.verdict is Verdict.UNSUPPORTED
+    assert outcome.message == "no draw fell inside the domain of the step (a division by zero)"
+
+
+def test_metric_index_moving_is_unsupported():
+    from dataclasses import replace
+
+    from stepcheck import evaluation
+
+    ctx = make_context(shapes={"T": ("n", "n")})
+    ctx = replace(ctx, options=replace(ctx.options, up_down=True), vocabulary=replace(ctx.vocabulary, metric="g", up_down=True))
+    up = N.Symbol("T", (N.Index("i", True, Span(0, 1)), N.Index("j", False, Span(0, 1))), False, Span(0, 1))
+    down = N.Symbol("T", (N.Index("i", False, Span(0, 1)), N.Index("j", False, Span(0, 1))), False, Span(0, 1))
+    outcome = evaluation.decide(up, down, RelationKind.EQUAL, ctx, Settings())
+    assert outcome.verdict is Verdict.UNSUPPORTED and "metric g" in outcome.message
+
+
+# --------------------------------------------------------------------------- cost control
+
+
+def test_huge_power_is_never_expanded():
+    start = time.process_time()
+    outcome = decide_latex(r"(a + b)^{200}", r"(b + a)^{200}")
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.EXACT_SAMPLE
+    wrong = decide_latex(r"(a + b)^{200}", r"a^{200} + b^{200}")
+    assert wrong.verdict is Verdict.FAILS
+    assert time.process_time() - start < 5
+
+
+def test_symbolic_inverse_beyond_the_cap_is_unsupported():
+    outcome = decide_latex(r"\frac{\partial}{\partial X}\operatorname{tr}(X^{-1})", r"-X^{-2}",
+                           shapes={"X": ("n", "n")}, sizes={"n": 5}, layout="denominator")
+    assert outcome.verdict is Verdict.UNSUPPORTED
+    assert outcome.message == "a symbolic inverse of a 5×5 matrix (the cap is 4×4)"
+
+
+def test_step_timeout_is_never_swallowed():
+    ctx = make_context(shapes={"X": ("n", "n"), "A": ("n", "n"), "B": ("n", "n")}, layout="denominator")
+    from stepcheck.expressions.parser import parse_latex
+
+    lhs = parse_latex(r"\frac{\partial}{\partial X}\det(A X B X^\top A)", ctx.vocabulary)
+    rhs = parse_latex(r"2\det(A X B X^\top A) X^{-\top}", ctx.vocabulary)
+    with pytest.raises(StepTimeout):
+        with time_limit(0.05):
+            Decider(lhs, rhs, RelationKind.EQUAL, ctx, Settings(trials=50)).run()
+
+
+def test_counterexample_is_json_ready():
+    outcome = decide_latex(r"\frac{\partial}{\partial \mathbf{w}} \mathbf{w}^\top A \mathbf{w}", r"2A\mathbf{w}",
+                           shapes={"w": ("d",), "A": ("d", "d")}, layout="denominator")
+    text = json.dumps(outcome.counterexample)
+    assert json.loads(text) == outcome.counterexample
