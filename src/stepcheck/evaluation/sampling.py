@@ -275,10 +275,11 @@ def to_json_number(x: Any) -> Any:
     return float(f"{value.real:.12g}")
 
 
-def to_json_array(arr: Any) -> Any:
-    """Nested lists of JSON numbers (a column vector as a flat list)."""
+def to_json_array(arr: Any, flatten_columns: bool = True) -> Any:
+    """Nested lists of JSON numbers (a column vector as a flat list, unless
+    ``flatten_columns`` is False: inputs keep their declared shape)."""
     a = np.asarray(arr, dtype=object)
-    if a.ndim == 2 and a.shape[1] == 1:
+    if flatten_columns and a.ndim == 2 and a.shape[1] == 1:
         a = a.reshape(-1)
     if a.ndim == 0:
         return to_json_number(a[()])
@@ -287,7 +288,7 @@ def to_json_array(arr: Any) -> Any:
 
 def inputs_json(model: Model, env: Env) -> dict[str, Any]:
     """The drawn inputs of a counterexample."""
-    out: dict[str, Any] = {name: to_json_array(arr) for name, arr in env.raw.items()}
+    out: dict[str, Any] = {name: to_json_array(arr, flatten_columns=False) for name, arr in env.raw.items()}
     for name, coeffs in env.functions.items():
         terms = poly_terms(model.analysis.functions[name].arity)
         out[f"{name} (polynomial coefficients)"] = {_term_text(t): to_json_number(c) for t, c in zip(terms, coeffs)}
