@@ -320,3 +320,46 @@ def test_counterexample_is_json_ready():
                            shapes={"w": ("d",), "A": ("d", "d")}, layout="denominator")
     text = json.dumps(outcome.counterexample)
     assert json.loads(text) == outcome.counterexample
+
+
+# --------------------------------------------------------------------------- robustness
+
+
+def test_cancellation_is_told_from_a_difference_by_a_second_look_at_higher_precision():
+    # a parcel sorter's logits z = W h + b are large, so softmax saturates and p_i(1 − p_i)
+    # loses most of 30 digits to cancellation; at 60 digits the error shrinks: it holds
+    shapes = {"p": ("k",), "z": ("k",), "W": ("k", "d"), "h": ("d",), "b": ("k",)}
+    defs = {"z_i": r"W_{ij} h_j + b_i", "p_i": r"\frac{e^{z_i}}{\sum_{c} e^{z_c}}"}
+    outcome = decide_latex(r"\frac{\partial p_i}{\partial z_j}", r"p_i \left(\delta_{ij} - p_j\right)",
+                           shapes=shapes, definitions=defs, no_sum=True)
+    assert outcome.verdict is Verdict.HOLDS
+    assert "60 where cancellation needed them" in outcome.message
+    wrong = decide_latex(r"\frac{\partial p_i}{\partial z_j}", r"p_i \left(\delta_{ij} + p_j\right)",
+                         shapes=shapes, definitions=defs, no_sum=True)
+    assert wrong.verdict is Verdict.FAILS
+
+
+def test_no_sum_mark_of_a_row_does_not_reach_the_definitions_it_uses():
+    # z_i = W_ij h_j sums j in its own row even when the step reads without summation
+    outcome = decide_latex(r"z_i", r"(W\mathbf{h})_i", shapes={"z": ("k",), "W": ("k", "d"), "h": ("d",)},
+                           definitions={"z_i": r"W_{ij} h_j"}, no_sum=True)
+    assert outcome.verdict is Verdict.HOLDS
+
+
+def test_symbols_with_indices_and_no_shape_get_axes_from_their_index_ranges():
+    outcome = decide_latex(r"x_i y_i", r"y_j x_j")
+    assert outcome.verdict is Verdict.HOLDS
+    assert outcome.message == "held exactly on 8 random draws at sizes i=2 and i=3"
+
+
+def test_bare_gradient_takes_the_one_input():
+    outcome = decide_latex(r"\nabla (\mathbf{x}^\top \mathbf{x})", r"2\mathbf{x}", shapes={"x": ("n",)})
+    assert outcome.verdict is Verdict.HOLDS
+    ambiguous = decide_latex(r"\nabla (\mathbf{x}^\top \mathbf{y})", r"\mathbf{y}", shapes={"x": ("n",), "y": ("n",)})
+    assert ambiguous.verdict is Verdict.UNSUPPORTED
+    assert ambiguous.message == "a gradient \\nabla written without its variable, over an expression of x, y"
+
+
+def test_exponent_with_free_indices_is_elementwise():
+    outcome = decide_latex(r"\sum_c e^{z_c}", r"\mathbf{1}^\top \exp(\mathbf{z})", shapes={"z": ("k",)})
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.FLOAT_SAMPLE

@@ -20,7 +20,7 @@ import sympy
 
 from ..expressions import nodes as N
 from . import linalg
-from .model import FLOAT_DPS, FLOAT_TOLERANCE
+from .model import FLOAT_DPS, tolerance
 from .values import AnyValue, IndexMismatch, LazyValue, OutOfDomain, ShapeMismatch, Value, make_value, shape_text
 
 
@@ -168,8 +168,8 @@ def exact_entries(v: Value) -> list[sympy.Rational]:
     return out
 
 
-def float_entries(v: Value) -> list[mpmath.mpf]:
-    """Every entry as a real mpmath float at :data:`FLOAT_DPS` digits.
+def float_entries(v: Value, dps: int = FLOAT_DPS) -> list[mpmath.mpf]:
+    """Every entry as a real mpmath float at ``dps`` digits.
 
     :raises OutOfDomain: an entry is undefined or not real.
     """
@@ -178,9 +178,9 @@ def float_entries(v: Value) -> list[mpmath.mpf]:
         if not isinstance(x, sympy.Float):
             if x.has(sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
                 raise OutOfDomain("an undefined value (a division by zero)")
-            x = sympy.N(x, FLOAT_DPS)
+            x = sympy.N(x, dps)
             if isinstance(x, sympy.Rational):
-                x = sympy.Float(x, FLOAT_DPS)
+                x = sympy.Float(x, dps)
             if not isinstance(x, sympy.Float):
                 raise OutOfDomain("a value that is not a real number")
         if not x.is_finite:
@@ -189,25 +189,25 @@ def float_entries(v: Value) -> list[mpmath.mpf]:
     return out
 
 
-def relative_error(a: list, b: list) -> float:
+def relative_error(a: list, b: list, dps: int = FLOAT_DPS) -> float:
     """Largest difference over the largest magnitude of either side (absolute when both vanish)."""
-    with mpmath.workdps(FLOAT_DPS):
+    with mpmath.workdps(dps):
         diff = max((abs(x - y) for x, y in zip(a, b)), default=mpmath.mpf(0))
         scale = max([abs(x) for x in a] + [abs(y) for y in b] + [mpmath.mpf(0)])
-        return float(diff / scale) if scale > mpmath.mpf(10) ** (-FLOAT_DPS + 5) else float(diff)
+        return float(diff / scale) if scale > mpmath.mpf(10) ** (-dps + 5) else float(diff)
 
 
-def equal(aligned: Aligned, mode: str) -> tuple[bool, float]:
+def equal(aligned: Aligned, mode: str, dps: int = FLOAT_DPS) -> tuple[bool, float]:
     """Whether the aligned sides are equal (and the relative error, in float mode)."""
     if mode == "exact":
         a, b = exact_entries(aligned.lhs), exact_entries(aligned.rhs)
         return (not aligned.transposed and a == b), 0.0
-    a, b = float_entries(aligned.lhs), float_entries(aligned.rhs)
-    err = relative_error(a, b)
-    return (not aligned.transposed and err <= FLOAT_TOLERANCE), err
+    a, b = float_entries(aligned.lhs, dps), float_entries(aligned.rhs, dps)
+    err = relative_error(a, b, dps)
+    return (not aligned.transposed and err <= tolerance(dps)), err
 
 
-def ratio(aligned: Aligned, mode: str) -> Any | None:
+def ratio(aligned: Aligned, mode: str, dps: int = FLOAT_DPS) -> Any | None:
     """The constant c with lhs = c·rhs on this draw, if one exists (c ≠ 0, 1)."""
     if mode == "exact":
         a, b = exact_entries(aligned.lhs), exact_entries(aligned.rhs)
@@ -216,15 +216,15 @@ def ratio(aligned: Aligned, mode: str) -> Any | None:
             return None
         c = pairs[0][0] / pairs[0][1]
         return c if c not in (0, 1) and all(x == c * y for x, y in zip(a, b)) else None
-    a, b = float_entries(aligned.lhs), float_entries(aligned.rhs)
-    with mpmath.workdps(FLOAT_DPS):
+    a, b = float_entries(aligned.lhs, dps), float_entries(aligned.rhs, dps)
+    with mpmath.workdps(dps):
         scale = max([abs(y) for y in b] + [mpmath.mpf(0)])
         if scale == 0:
             return None
         k = max(range(len(b)), key=lambda i: abs(b[i]))
         c = a[k] / b[k]
         scaled = [c * y for y in b]
-        if relative_error(a, scaled) > FLOAT_TOLERANCE or abs(c) < mpmath.mpf(10) ** -12 or abs(c - 1) < 1e-12:
+        if relative_error(a, scaled, dps) > tolerance(dps) or abs(c) < mpmath.mpf(10) ** -12 or abs(c - 1) < 1e-12:
             return None
         fraction = sympy.nsimplify(sympy.Float(c, 20), rational=True, tolerance=1e-15)
         if isinstance(fraction, sympy.Rational) and fraction.q <= 100:
@@ -246,43 +246,43 @@ LOEWNER_RELATIONS: dict[str, tuple[bool, int]] = {
 }
 
 
-def order_holds(aligned: Aligned, mode: str, strict: bool, direction: int) -> bool:
+def order_holds(aligned: Aligned, mode: str, strict: bool, direction: int, dps: int = FLOAT_DPS) -> bool:
     """Every component of lhs ≤ rhs (or <, ≥, >)."""
     if aligned.transposed:
         raise ShapeMismatch(
             f"an order between a {shape_text(aligned.lhs.pos_shape)} and a {shape_text(aligned.rhs.pos_shape[::-1])} value"
         )
-    a, b = _numbers(aligned, mode)
+    a, b = _numbers(aligned, mode, dps)
     if direction < 0:
         a, b = b, a
     if mode == "exact":
         return all((x < y) if strict else (x <= y) for x, y in zip(a, b))
-    with mpmath.workdps(FLOAT_DPS):
+    with mpmath.workdps(dps):
         scale = max([abs(x) for x in a] + [abs(y) for y in b] + [mpmath.mpf(1)])
-        slack = scale * FLOAT_TOLERANCE
+        slack = scale * tolerance(dps)
         return all((y - x > slack) if strict else (y - x >= -slack) for x, y in zip(a, b))
 
 
-def differs(aligned: Aligned, mode: str) -> bool:
+def differs(aligned: Aligned, mode: str, dps: int = FLOAT_DPS) -> bool:
     """The sides differ (``\\neq``): somewhere, or per component with free indices."""
     if aligned.transposed:
         return True
-    a, b = _numbers(aligned, mode)
+    a, b = _numbers(aligned, mode, dps)
     if mode == "exact":
         pairs = list(zip(a, b))
     else:
-        with mpmath.workdps(FLOAT_DPS):
+        with mpmath.workdps(dps):
             scale = max([abs(x) for x in a] + [abs(y) for y in b] + [mpmath.mpf(1)])
             pairs = [(x, y) for x, y in zip(a, b)]
             if aligned.lhs.labels:
-                return all(abs(x - y) > scale * FLOAT_TOLERANCE for x, y in pairs)
-            return any(abs(x - y) > scale * FLOAT_TOLERANCE for x, y in pairs)
+                return all(abs(x - y) > scale * tolerance(dps) for x, y in pairs)
+            return any(abs(x - y) > scale * tolerance(dps) for x, y in pairs)
     if aligned.lhs.labels:
         return all(x != y for x, y in pairs)
     return any(x != y for x, y in pairs)
 
 
-def loewner_holds(aligned: Aligned, mode: str, strict: bool, direction: int) -> bool:
+def loewner_holds(aligned: Aligned, mode: str, strict: bool, direction: int, dps: int = FLOAT_DPS) -> bool:
     """``lhs ⪯ rhs`` (direction +1) or ``⪰``: the symmetric part of the difference is
     positive semidefinite (definite when strict), per labelled component."""
     if aligned.transposed:
@@ -292,22 +292,22 @@ def loewner_holds(aligned: Aligned, mode: str, strict: bool, direction: int) -> 
         diff = make_value(-diff.data, diff.labels)
     for _, block in diff.blocks():
         if block.ndim == 0:
-            x = _numbers(Aligned(Value(block), Value(block)), mode)[0][0]
+            x = _numbers(Aligned(Value(block), Value(block)), mode, dps)[0][0]
             if not (x > 0 if strict else x >= 0):
                 return False
             continue
         if block.ndim != 2 or block.shape[0] != block.shape[1]:
             raise ShapeMismatch(f"a Loewner order between {shape_text(block.shape)} arrays (not square)")
         sym = (block + block.T) / 2
-        if not (_definite_exact(sym, strict) if mode == "exact" else _definite_float(sym, strict)):
+        if not (_definite_exact(sym, strict) if mode == "exact" else _definite_float(sym, strict, dps)):
             return False
     return True
 
 
-def _numbers(aligned: Aligned, mode: str) -> tuple[list, list]:
+def _numbers(aligned: Aligned, mode: str, dps: int = FLOAT_DPS) -> tuple[list, list]:
     if mode == "exact":
         return exact_entries(aligned.lhs), exact_entries(aligned.rhs)
-    return float_entries(aligned.lhs), float_entries(aligned.rhs)
+    return float_entries(aligned.lhs, dps), float_entries(aligned.rhs, dps)
 
 
 def _definite_exact(sym: np.ndarray, strict: bool) -> bool:
@@ -326,14 +326,14 @@ def _definite_exact(sym: np.ndarray, strict: bool) -> bool:
     return True
 
 
-def _definite_float(sym: np.ndarray, strict: bool) -> bool:
-    with mpmath.workdps(FLOAT_DPS):
-        entries = float_entries(Value(sym))
+def _definite_float(sym: np.ndarray, strict: bool, dps: int) -> bool:
+    with mpmath.workdps(dps):
+        entries = float_entries(Value(sym), dps)
         n = sym.shape[0]
         m = mpmath.matrix(n, n)
         for k, x in enumerate(entries):
             m[k // n, k % n] = x
         eigenvalues = mpmath.eigsy(m, eigvals_only=True)
         scale = max([abs(x) for x in entries] + [mpmath.mpf(1)])
-        slack = scale * FLOAT_TOLERANCE
+        slack = scale * tolerance(dps)
         return all((e > slack) if strict else (e >= -slack) for e in eigenvalues)

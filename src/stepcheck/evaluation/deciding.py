@@ -6,7 +6,8 @@ from __future__ import annotations
 
 import logging
 import random
-from typing import Iterator
+from dataclasses import dataclass
+from typing import Callable, Iterator
 
 import sympy
 
@@ -19,11 +20,27 @@ from . import compare
 from .analysis import Analysis, Key, analyse
 from .compare import Aligned, NeedFloat
 from .lower import Lowerer
-from .model import FLOAT_DPS, Env, Model
+from .model import FLOAT_DPS, HIGH_DPS, Env, Model
 from .sampling import Drawer, free_classes, size_assignments
 from .values import EvaluationError, IndexMismatch, OutOfDomain, ShapeMismatch, Unsupported
 
 logger = logging.getLogger(__name__)
+
+#: Judges one draw: (aligned sides, mode, digits) → (holds, relative error).
+Check = Callable[[Aligned, str, int], tuple[bool, float]]
+
+
+@dataclass(frozen=True, slots=True)
+class Trial:
+    """One judged draw."""
+
+    env: Env
+    aligned: Aligned
+    ok: bool
+    error: float
+    """Relative error (floating point), 0 for exact draws."""
+    dps: int
+    """Digits the draw was judged at."""
 
 #: Draws that may fall outside a domain before a step is given up as unsupported.
 MAX_REDRAWS = 40
@@ -77,64 +94,75 @@ class Decider:
                 self.notes.append(note)
         return compare.align(lv, rv, self.lhs, self.rhs)
 
-    def draws(
+    def trials(
         self,
         model: Model,
         rng: random.Random,
         count: int,
         mode: str,
+        check: Check | None = None,
         small: bool = False,
         extra: dict | None = None,
         swap: tuple[str, str, tuple[int, int]] | None = None,
-    ) -> Iterator[tuple[Env, Aligned]]:
-        """``count`` evaluated draws (draws outside a domain are repeated).
+    ) -> Iterator[Trial]:
+        """``count`` evaluated and judged draws (draws outside a domain are repeated).
 
+        In floating point a draw that fails at :data:`FLOAT_DPS` digits is evaluated
+        again at :data:`HIGH_DPS`: rounding error in a true identity shrinks with the
+        precision (cancellation), a real difference does not.
+
+        :param check: judges a draw (default: the step's relation).
         :param swap: ``(input, side, axes)``: that side sees the input with two axes swapped.
         :raises Unsupported: too many draws fell outside the domain.
         """
+        check = check or self.check
         drawer = Drawer(model, rng, small=small, extra=extra)
         done = failures = 0
-        last = ""
         while done < count:
             env = drawer.draw(mode)
             try:
-                if swap is None:
-                    aligned = self.evaluate(model, env)
-                else:
-                    aligned = self._evaluate_swapped(model, env, swap)
-                if mode == "exact":
-                    compare.exact_entries(aligned.lhs), compare.exact_entries(aligned.rhs)
-                else:
-                    compare.float_entries(aligned.lhs), compare.float_entries(aligned.rhs)
+                aligned = self._evaluate(model, env, swap)
+                ok, err = check(aligned, mode, FLOAT_DPS)
+                dps = FLOAT_DPS
+                if not ok and mode == "float":
+                    high = self._evaluate(model, env.at_precision(HIGH_DPS), swap)
+                    ok_high, err_high = check(high, mode, HIGH_DPS)
+                    if ok_high:
+                        ok, err, aligned, dps = True, err_high, high, HIGH_DPS
             except OutOfDomain as e:
                 failures += 1
-                last = e.message
                 if failures > MAX_REDRAWS:
-                    raise Unsupported(f"no draw fell inside the domain of the step ({last})") from e
+                    raise Unsupported(f"no draw fell inside the domain of the step ({e.message})") from e
                 continue
             done += 1
-            yield env, aligned
+            yield Trial(env, aligned, ok, err, dps)
 
-    def _evaluate_swapped(self, model: Model, env: Env, swap: tuple[str, str, tuple[int, int]]) -> Aligned:
-        name, side, axes = swap
-        values = dict(env.values)
-        values[name] = values[name].swapaxes(*axes).copy()
-        swapped = Env(env.mode, values, env.functions, env.raw)
-        if side == "lhs":
-            return self.evaluate(model, swapped, env)
-        return self.evaluate(model, env, swapped)
+    def _evaluate(self, model: Model, env: Env, swap: tuple[str, str, tuple[int, int]] | None) -> Aligned:
+        if swap is None:
+            aligned = self.evaluate(model, env)
+        else:
+            name, side, axes = swap
+            values = dict(env.values)
+            values[name] = values[name].swapaxes(*axes).copy()
+            swapped = Env(env.mode, values, env.functions, env.raw, env.raw_functions, env.dps)
+            aligned = self.evaluate(model, swapped, env) if side == "lhs" else self.evaluate(model, env, swapped)
+        if env.mode == "exact":
+            compare.exact_entries(aligned.lhs), compare.exact_entries(aligned.rhs)
+        else:
+            compare.float_entries(aligned.lhs, env.dps), compare.float_entries(aligned.rhs, env.dps)
+        return aligned
 
-    def check(self, aligned: Aligned, mode: str) -> tuple[bool, float]:
+    def check(self, aligned: Aligned, mode: str, dps: int = FLOAT_DPS) -> tuple[bool, float]:
         """Whether the relation holds on one draw (and the relative error seen)."""
         kind = self.relation
         if kind in (RelationKind.EQUAL, RelationKind.EQUIV, RelationKind.DEFINE):
-            return compare.equal(aligned, mode)
+            return compare.equal(aligned, mode, dps)
         if kind is RelationKind.NOT_EQUAL:
-            return compare.differs(aligned, mode), 0.0
+            return compare.differs(aligned, mode, dps), 0.0
         strict, direction = self._order()
         if kind is RelationKind.LOEWNER:
-            return compare.loewner_holds(aligned, mode, strict, direction), 0.0
-        return compare.order_holds(aligned, mode, strict, direction), 0.0
+            return compare.loewner_holds(aligned, mode, strict, direction, dps), 0.0
+        return compare.order_holds(aligned, mode, strict, direction, dps), 0.0
 
     def _order(self) -> tuple[bool, int]:
         table = compare.LOEWNER_RELATIONS if self.relation is RelationKind.LOEWNER else compare.ORDER_RELATIONS
@@ -171,20 +199,21 @@ class Decider:
         rng = random.Random(self.settings.seed)
         assignments = size_assignments(self.analysis)
         per = self.trials_per_assignment(assignments)
-        count, worst = 0, 0.0
+        count, worst, deepest = 0, 0.0, FLOAT_DPS
         models = []
         for sizes in assignments:
             model = self.model(sizes)
             models.append(model)
-            for env, aligned in self.draws(model, rng, per, mode):
-                ok, err = self.check(aligned, mode)
+            for trial in self.trials(model, rng, per, mode):
                 count += 1
-                worst = max(worst, err)
-                if not ok:
-                    return self._fails(model, env, aligned, mode)
-        return Outcome(Verdict.HOLDS, _method(mode), message=self._with_notes(self._held(mode, count, models, worst)))
+                worst = max(worst, trial.error)
+                deepest = max(deepest, trial.dps)
+                if not trial.ok:
+                    return self._fails(model, trial.env, trial.aligned, mode)
+        message = self._held(mode, count, models, worst, deepest)
+        return Outcome(Verdict.HOLDS, _method(mode), message=self._with_notes(message))
 
-    def _held(self, mode: str, count: int, models: list[Model], worst: float) -> str:
+    def _held(self, mode: str, count: int, models: list[Model], worst: float, deepest: int = FLOAT_DPS) -> str:
         sizes = " and ".join(m.sizes_text() for m in models)
         where = f"at sizes {sizes}" if any(m.display_sizes() for m in models) else "(scalar inputs)"
         if self.relation is RelationKind.NOT_EQUAL:
@@ -194,10 +223,8 @@ class Decider:
             return f"held {how} on {count} random draws {where}; no counterexample found"
         if mode == "exact":
             return f"held exactly on {count} random draws {where}"
-        return (
-            f"held in floating point ({FLOAT_DPS} digits) on {count} random draws {where}; "
-            f"largest relative error {worst:.1e}"
-        )
+        digits = f"{FLOAT_DPS} digits" if deepest == FLOAT_DPS else f"{FLOAT_DPS} digits, {deepest} where cancellation needed them"
+        return f"held in floating point ({digits}) on {count} random draws {where}; largest relative error {worst:.1e}"
 
     def _with_notes(self, message: str) -> str:
         return message + "".join(f"; note: {n}" for n in self.notes)

@@ -36,7 +36,7 @@ from ..context.model import AssumptionKind, Layout
 from ..expressions import nodes as N
 from ..source import Span
 from .lower import Lowerer, State
-from .model import FLOAT_DPS, Env
+from .model import Env
 from .values import OutOfDomain, Unsupported, Value, make_value, obj_array, shape_text
 
 #: Assumptions that tie components together (derivatives ignore the tie).
@@ -94,7 +94,7 @@ def _per_draw(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) -> Value:
     values = dict(lw.env.values)
     for name in names:
         values[name] = lw.model.symbols(name)
-    mixed = Lowerer(lw.model, Env("symbolic", values, lw.env.functions))
+    mixed = Lowerer(lw.model, Env("symbolic", values, lw.env.functions, dps=lw.env.dps))
     value = _symbolic(mixed, node, replace(st, keep=frozenset()))
     lw.notes.extend(n for n in mixed.notes if n not in lw.notes)
     table = {k: v for k, v in _substitution(lw).items() if k.name.split("[")[0] in names}
@@ -125,7 +125,7 @@ def _native(value: Value, shape: tuple[int, ...], name: str) -> np.ndarray:
 
 def _finish(lw: Lowerer, x: Any) -> Any:
     if lw.env.mode == "float" and not isinstance(x, sympy.Float):
-        x = x.evalf(FLOAT_DPS)
+        x = x.evalf(lw.env.dps)
     if x.has(sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
         raise OutOfDomain("a derivative is undefined at the draw")
     return x

@@ -40,7 +40,7 @@ _STRUCTURED = frozenset({
     AssumptionKind.DIAGONAL, AssumptionKind.ORTHOGONAL,
 })
 
-Check = Callable[[Aligned], bool]
+Check = Callable[[Aligned, str, int], tuple[bool, float]]
 
 
 def diagnose(decider: Decider, model: Model, env: Env, aligned: Aligned, mode: str) -> tuple[str | None, dict, str]:
@@ -99,8 +99,8 @@ def _variant_holds(
     try:
         for sizes in assignments:
             model = decider.model(sizes)
-            for _, aligned in decider.draws(model, rng, VARIANT_DRAWS, mode, extra=extra, swap=swap):
-                if not check(aligned):
+            for trial in decider.trials(model, rng, VARIANT_DRAWS, mode, check, extra=extra, swap=swap):
+                if not trial.ok:
                     return False
     except (EvaluationError, NeedFloat):
         return False
@@ -133,17 +133,19 @@ def _first_hint(decider: Decider, model: Model, aligned: Aligned, mode: str) -> 
 
 
 def _equal(mode: str) -> Check:
-    return lambda a: compare.equal(Aligned(a.lhs, a.rhs), mode)[0] and not a.transposed
+    return lambda a, m, dps: compare.equal(a, m, dps)
 
 
 def _transpose_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mode: str) -> str | None:
     lhs, rhs = aligned.lhs, aligned.rhs
     if aligned.transposed:
-        check: Check = lambda a: a.transposed and compare.equal(Aligned(a.lhs, a.rhs), mode)[0]
+        check: Check = lambda a, m, dps: (a.transposed and compare.equal(Aligned(a.lhs, a.rhs), m, dps)[0], 0.0)
     elif len(lhs.pos_shape) == 2 and lhs.pos_shape[0] == lhs.pos_shape[1] and not lhs.labels:
-        check = lambda a: not a.transposed and compare.equal(Aligned(a.lhs, compare._transpose(a.rhs)), mode)[0]
+        check = lambda a, m, dps: (
+            not a.transposed and compare.equal(Aligned(a.lhs, compare._transpose(a.rhs)), m, dps)[0], 0.0
+        )
     elif len(lhs.labels) == 2 and not lhs.pos_shape:
-        check = lambda a: compare.equal(Aligned(a.lhs, _swap_labels(a.rhs)), mode)[0]
+        check = lambda a, m, dps: compare.equal(Aligned(a.lhs, _swap_labels(a.rhs)), m, dps)
         if _variant_holds(decider, assignments, mode, check):
             return f"the sides agree after swapping the free indices {lhs.labels[0]} and {lhs.labels[1]} of one side"
         return None
@@ -184,7 +186,7 @@ def _factor_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mo
         return None
     if c is None:
         return None
-    check: Check = lambda a: not a.transposed and _same_ratio(compare.ratio(a, mode), c)
+    check: Check = lambda a, m, dps: (not a.transposed and _same_ratio(compare.ratio(a, m, dps), c), 0.0)
     if not _variant_holds(decider, assignments, mode, check):
         return None
     if c == -1:
@@ -280,10 +282,9 @@ def _smallest_counterexample(decider: Decider, mode: str) -> tuple[Model, Env, A
         model = decider.model(sizes)
         for small, count in ((True, 4), (False, 2)):
             try:
-                for env, aligned in decider.draws(model, rng, count, mode, small=small):
-                    ok, _ = decider.check(aligned, mode)
-                    if not ok:
-                        return model, env, aligned
+                for trial in decider.trials(model, rng, count, mode, small=small):
+                    if not trial.ok:
+                        return model, trial.env, trial.aligned
             except (EvaluationError, NeedFloat):
                 break
     return None

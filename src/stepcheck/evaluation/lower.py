@@ -24,7 +24,7 @@ from ..context.model import Definition, Summation
 from ..expressions import nodes as N
 from . import linalg
 from .analysis import scalar_name
-from .model import FLOAT_DPS, Env, Model, poly_terms
+from .model import Env, Model, poly_terms
 from .values import (
     ONE,
     ZERO,
@@ -57,6 +57,8 @@ class State:
     a subtree free of them is a placeholder filled with numbers per draw."""
     overrides: tuple[tuple[str, Value], ...] = ()
     """Parameters of a definition applied to arguments (``L(\\mathbf{v})``)."""
+    definition: bool = False
+    """Inside a definition's body: its row's ``(no sum)`` mark does not reach it."""
 
     def override(self, name: str) -> Value | None:
         for key, value in self.overrides:
@@ -65,7 +67,7 @@ class State:
         return None
 
     def cache_key(self) -> tuple:
-        return (self.bound, self.frozen, self.keep, tuple((k, id(v)) for k, v in self.overrides))
+        return (self.bound, self.frozen, self.keep, tuple((k, id(v)) for k, v in self.overrides), self.definition)
 
 
 def _sigma(x: Any) -> Any:
@@ -103,6 +105,7 @@ class Lowerer:
         self.env = env
         self.context = model.analysis.context
         self.explicit = self.context.options.summation is Summation.EXPLICIT or self.context.no_sum
+        self.explicit_in_definitions = self.context.options.summation is Summation.EXPLICIT
         self.placeholders = placeholders
         """Set while differentiating: (dummy array, node, state) per placeholder."""
         self._definition_cache: dict[Any, Value] = {}
@@ -145,7 +148,8 @@ class Lowerer:
 
     def lower_Constant(self, node: N.Constant, st: State) -> AnyValue:
         c = sympy.E if node.name == "e" else sympy.pi
-        return Value(as_array(sympy.Float(c.evalf(FLOAT_DPS + 5), FLOAT_DPS) if self.env.mode == "float" else c))
+        dps = self.env.dps
+        return Value(as_array(sympy.Float(c.evalf(dps + 5), dps) if self.env.mode == "float" else c))
 
     def lower_Identity(self, node: N.Identity, st: State) -> AnyValue:
         if node.size is None:
@@ -303,7 +307,12 @@ class Lowerer:
         return Value(data, tuple(labels))
 
     def _sums(self, label: str, st: State) -> bool:
-        return not self.explicit and label not in st.bound
+        return not self._explicit(st) and label not in st.bound
+
+    def _explicit(self, st: State) -> bool:
+        """Repeated indices are elementwise (a definition's body ignores the step's
+        ``(no sum)`` mark, which belongs to the step's row)."""
+        return self.explicit_in_definitions if st.definition else self.explicit
 
     def _defined(self, node: N.Symbol, definition: Definition, st: State) -> Value:
         value = self._definition_value(definition, st, ())
@@ -326,7 +335,7 @@ class Lowerer:
         return self.index_positional(value, node.subs, st, node)
 
     def _definition_value(self, definition: Definition, st: State, overrides: tuple) -> Value:
-        inner = State(frozen=st.frozen, keep=st.keep, overrides=overrides)
+        inner = State(frozen=st.frozen, keep=st.keep, overrides=overrides, definition=True)
         key = (definition.name, inner.cache_key())
         if key not in self._definition_cache:
             self._definition_cache[key] = self.lower_value(definition.body, inner)
@@ -366,7 +375,7 @@ class Lowerer:
         return self._reach_cache[name]
 
     def _placeholder(self, node: N.Node, st: State) -> Value | None:
-        numeric_state = State(bound=st.bound, frozen=st.frozen)
+        numeric_state = State(bound=st.bound, frozen=st.frozen, definition=st.definition)
         key = (id(node), numeric_state.cache_key())
         probe = self.model.probe_cache.get(key)
         if probe is None:
@@ -429,7 +438,7 @@ class Lowerer:
         constant = constant or [False] * len(values)
         for v, fixed in zip(values, constant):
             missing = [l for l in labels if l not in v.labels]
-            bad = [l for l in missing if not (self.explicit or fixed or l in st.bound)]
+            bad = [l for l in missing if not (self._explicit(st) or fixed or l in st.bound)]
             if bad:
                 raise IndexMismatch(f"the terms of a sum have different free indices (index {bad[0]})", node.span)
         pos_shapes = {v.pos_shape for v in values if v.pos_shape}
@@ -449,7 +458,7 @@ class Lowerer:
         return functools.reduce(lambda a, b: self.product(a, b, st, node), values)
 
     def _check_counts(self, values: list[AnyValue], st: State, node: N.Node) -> None:
-        if self.explicit:
+        if self._explicit(st):
             return
         counts: dict[str, int] = {}
         for v in values:
@@ -583,7 +592,11 @@ class Lowerer:
     def lower_Pow(self, node: N.Pow, st: State) -> AnyValue:
         exponent = self.lower_value(node.exponent, st)
         if exponent.labels or exponent.pos_shape:
-            raise Unsupported("an exponent that is not a scalar", node.exponent.span)
+            base = self.lower_value(node.base, st)
+            if base.pos_shape and exponent.pos_shape:
+                raise Unsupported("a power of an array to an array exponent", node.exponent.span)
+            # e^{z_i}, 2^{\mathbf{k}}: elementwise
+            return self.elementwise(base, exponent, lambda x, y: self._power(x, y, node), node)
         e = exponent.scalar()
         if isinstance(node.base, N.Norm) and node.base.kind in (None, "2", "F") and _even_integer(e):
             inner = self.lower_value(node.base.operand, st)
@@ -671,7 +684,7 @@ class Lowerer:
                 node.span,
             )
         args = tuple((p, self.lower_value(a, st)) for p, a in zip(params, node.args))
-        inner = State(frozen=st.frozen, keep=st.keep, overrides=args)
+        inner = State(frozen=st.frozen, keep=st.keep, overrides=args, definition=True)
         value = self.lower_value(definition.body, inner)
         if definition.indices:
             return _labels_to_positional(value.with_labels(tuple(definition.indices)), node)
@@ -750,7 +763,7 @@ class Lowerer:
     def _limit(self, node: N.Node | None, st: State, default: int) -> int:
         if node is None:
             return default
-        value = self.lower_value(node, State(frozen=st.frozen))
+        value = self.lower_value(node, State(frozen=st.frozen, definition=st.definition))
         x = value.scalar() if value.is_scalar else None
         if x is None or not getattr(x, "is_integer", False):
             raise Unsupported("a sum limit that is not a whole number", node.span)

@@ -18,8 +18,16 @@ from .values import obj_array
 
 #: Decimal digits of floating-point evaluation (mpmath through sympy Floats).
 FLOAT_DPS = 30
-#: Relative error above which two floating-point values differ.
+#: Digits of the second look at a draw whose sides differ at :data:`FLOAT_DPS`: an
+#: identity's rounding error shrinks with the precision, a real difference does not.
+HIGH_DPS = 60
+#: Relative error above which two floating-point values differ, at FLOAT_DPS.
 FLOAT_TOLERANCE = 1e-18
+
+
+def tolerance(dps: int) -> float:
+    """Relative error above which values computed with ``dps`` digits differ (60% of the digits)."""
+    return 10.0 ** (-0.6 * dps)
 
 
 @dataclass(slots=True)
@@ -34,6 +42,10 @@ class Env:
     """User function name → polynomial coefficients."""
     raw: dict[str, np.ndarray] = field(default_factory=dict)
     """Input name → the exact draw (for counterexamples), when ``mode`` is numeric."""
+    raw_functions: dict[str, np.ndarray] = field(default_factory=dict)
+    """User function name → the exact coefficients drawn."""
+    dps: int = FLOAT_DPS
+    """Digits of a ``"float"`` environment."""
 
     @property
     def numeric(self) -> bool:
@@ -42,8 +54,18 @@ class Env:
     def number(self, x: Any) -> Any:
         """An exact number converted for this mode."""
         if self.mode == "float" and not (isinstance(x, sympy.Integer) or (isinstance(x, int))):
-            return sympy.Float(x, FLOAT_DPS)
+            return sympy.Float(x, self.dps)
         return x
+
+    def at_precision(self, dps: int) -> Env:
+        """The same draw in floating point with ``dps`` digits."""
+        return Env("float", {k: to_float(v, dps) for k, v in self.raw.items()},
+                   {k: to_float(v, dps) for k, v in self.raw_functions.items()}, self.raw, self.raw_functions, dps)
+
+
+def to_float(arr: np.ndarray, dps: int = FLOAT_DPS) -> np.ndarray:
+    """Exact numbers as sympy Floats of ``dps`` digits."""
+    return obj_array(arr.shape, lambda i: sympy.Float(arr[i], dps))
 
 
 def poly_terms(arity: int) -> list[tuple[int, ...]]:

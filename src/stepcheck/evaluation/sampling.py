@@ -105,12 +105,8 @@ class Drawer:
             name: obj_array((len(poly_terms(fn.arity)),), lambda i: self._entry(frozenset()))
             for name, fn in analysis.functions.items()
         }
-        if mode == "float":
-            values = {k: _to_float(v) for k, v in raw.items()}
-            functions = {k: _to_float(v) for k, v in functions.items()}
-        else:
-            values = raw
-        return Env(mode, values, functions, raw)
+        env = Env("exact", raw, functions, raw, functions)
+        return env.at_precision(FLOAT_DPS) if mode == "float" else env
 
     def _kinds(self, spec: InputSpec) -> frozenset[K]:
         kinds = set(spec.kinds) | set(self.extra.get(spec.name, ()))
@@ -240,10 +236,6 @@ def _normalise_columns(raw: np.ndarray) -> np.ndarray:
         return obj_array(raw.shape, lambda i: raw[i] / total)
     totals = [sympy.Add(*raw[:, j]) for j in range(raw.shape[1])]
     return obj_array(raw.shape, lambda i: raw[i] / totals[i[1]])
-
-
-def _to_float(arr: np.ndarray) -> np.ndarray:
-    return obj_array(arr.shape, lambda i: sympy.Float(arr[i], FLOAT_DPS))
 
 
 def probe_value(model: Model, node: Any, state: Any) -> AnyValue | None:
