@@ -202,3 +202,57 @@ def test_reading_never_writes_input_files(here: pathlib.Path) -> None:
     after = {name: ((here / name).read_bytes(), (here / name).stat().st_mtime_ns) for name in files}
     assert after == before
     assert sorted(p.name for p in here.iterdir()) == sorted(files)
+
+
+# -- no input crashes the readers -------------------------------------------------------------
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_FRAGMENTS = st.sampled_from(
+    ["$", "$$", "\\[", "\\]", "\\(", "\\)", "{", "}", "\\begin{align}", "\\end{align}", "\\begin{equation}",
+     "\\end{pmatrix}", "\\begin{verbatim}", "\\verb|", "%", "% stepcheck: skip", "% stepcheck: layout x",
+     "<!-- stepcheck: off -->", "<!--", "-->", "\\newcommand{\\a}[1]{#1#1}", "\\a", "\\def\\b{", "\\input{x}",
+     "\\iffalse", "\\fi", "&", "\\\\", "=", "a", "x_i", "\\frac{", "\\left(", "\\right)", "\n", "\n\n", "> ",
+     "```", "```math\n", "    ", "- ", "\\overset{", "\r\n", "\t", "é", "\\", "#1", "[", "]"]
+)
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(_FRAGMENTS, max_size=25), st.sampled_from(["tex", "md"]))
+def test_no_text_makes_a_reader_raise(fragments: list[str], kind: str) -> None:
+    text = "".join(fragments)
+    document = read_text(text, kind, "fuzz")
+    s = structure_of(document)
+    for chain in s.chains:
+        assert len(chain.sides) == len(chain.relations) + 1
+    for entry in s.unreadable:
+        assert entry.message and entry.chain >= 1
+
+
+# -- many unclosed openers: each search for a closer is done once, not once per opener -------------
+# (sizes chosen so that a search per opener would take minutes; no timing is asserted)
+
+MANY_UNCLOSED = [
+    ("tex-brackets", "tex", "\\[ " * 5000, 5000),
+    ("tex-parens", "tex", "\\( " * 5000, 5000),
+    ("tex-math-environment", "tex", "\\begin{math} " * 5000, 5000),
+    ("tex-definitions", "tex", "\\newcommand{\\x}{" * 5000, 0),
+    ("tex-iffalse", "tex", "\\iffalse " * 5000 + "$a$", 0),
+    ("tex-verb", "tex", "\\verb+a " * 5000, 0),
+    ("md-dollar-lines-in-quote", "md", "> $$ a\n" * 5000, 0),
+    ("md-align-lines", "md", "\\begin{align}\n" * 5000, 1),
+    ("md-comment-openers", "md", "<!-- " * 5000, 0),
+]
+
+
+@pytest.mark.parametrize("kind, text, problems", [c[1:] for c in MANY_UNCLOSED], ids=[c[0] for c in MANY_UNCLOSED])
+def test_many_unclosed_openers_read_in_one_pass(kind: str, text: str, problems: int) -> None:
+    document = read_text(text, kind, "many")
+    assert len(document.problems) == problems
+    structure_of(document)
+
+
+def test_a_later_block_is_read_after_an_unclosed_dollar_block() -> None:
+    s = structure("$$ a\ntext\n\n$$\nb = c\n$$\n", "md")
+    assert [c.source.position(c.sides[1].span.start).line for c in s.chains] == [5]

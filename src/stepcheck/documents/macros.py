@@ -56,46 +56,69 @@ def skip_space(text: str, pos: int) -> int:
     return _SPACE.match(text, pos).end()
 
 
-def match_group(text: str, pos: int, opening: str = "{", closing: str = "}") -> _Group | None:
-    """Read a balanced group starting at ``text[pos] == opening``.
+_BRACE_SCAN = re.compile(r"\\.|%[^\n]*|[{}]", re.S)
+#: Longest ``[…]`` argument searched for its ``]`` (an argument count or a default value).
+MAX_OPTIONAL = 500
 
-    Braces nest; ``\\{``, ``\\}`` and comments do not count.  For a ``[…]`` group the
-    first ``]`` outside braces closes it, as in TeX.
+
+class Braces:
+    """A text with the partner of every ``{`` found in one pass (``\\{``, ``\\}`` and
+    comments do not count), so reading a group never rescans the file: many unclosed
+    groups cost no more than one."""
+
+    def __init__(self, text: str):
+        self.text = text
+        self._partner: dict[int, int] = {}
+        opened: list[int] = []
+        for match in _BRACE_SCAN.finditer(text):
+            ch = match.group()
+            if ch == "{":
+                opened.append(match.start())
+            elif ch == "}" and opened:
+                self._partner[opened.pop()] = match.start()
+
+    def close_of(self, pos: int) -> int | None:
+        """The offset of the ``}`` that closes the ``{`` at ``pos``, or None."""
+        return self._partner.get(pos)
+
+
+def match_group(braces: Braces, pos: int, opening: str = "{") -> _Group | None:
+    """Read a ``{…}`` group, or a ``[…]`` group (closed by the first ``]`` outside braces,
+    as in TeX, within :data:`MAX_OPTIONAL` characters), starting at ``pos``.
 
     :returns: the group, or None when ``text[pos]`` is not ``opening``.
     :raises DefinitionError: the group is never closed (at its opening).
     """
+    text = braces.text
     if pos >= len(text) or text[pos] != opening:
         return None
-    depth = 0
-    i, n = pos + 1, len(text)
-    while i < n:
+    if opening == "{":
+        close = braces.close_of(pos)
+        if close is None:
+            raise DefinitionError("'{' is never closed", pos)
+        return _Group(pos + 1, close, close + 1)
+    i, end = pos + 1, min(len(text), pos + 1 + MAX_OPTIONAL)
+    while i < end:
         ch = text[i]
         if ch == "\\":
             i += 2
-            continue
-        if ch == "%":
-            nl = text.find("\n", i)
-            i = n if nl == -1 else nl + 1
-            continue
-        if ch == "{":
-            depth += 1
-        elif ch == "}":
-            if depth == 0 and closing == "}":
-                return _Group(pos + 1, i, i + 1)
-            depth -= 1
-            if depth < 0:
-                raise DefinitionError(f"'{opening}' is never closed", pos)
-        elif ch == closing and depth == 0:
+        elif ch == "{":
+            close = braces.close_of(i)
+            if close is None:
+                break
+            i = close + 1
+        elif ch == "]":
             return _Group(pos + 1, i, i + 1)
-        i += 1
-    raise DefinitionError(f"'{opening}' is never closed", pos)
+        else:
+            i += 1
+    raise DefinitionError(f"'[' is not closed by ']' within {MAX_OPTIONAL} characters", pos)
 
 
-def _read_name(text: str, pos: int) -> tuple[str, int]:
+def _read_name(braces: Braces, pos: int) -> tuple[str, int]:
     """``\\name`` or ``{\\name}`` at ``pos``: the name and the offset after it."""
+    text = braces.text
     pos = skip_space(text, pos)
-    group = match_group(text, pos)
+    group = match_group(braces, pos)
     if group is not None:
         inner = text[group.inner_start : group.inner_end].strip()
         if not _NAME.fullmatch(inner):
@@ -107,10 +130,11 @@ def _read_name(text: str, pos: int) -> tuple[str, int]:
     return match.group(0), match.end()
 
 
-def _read_body(text: str, pos: int) -> tuple[int, int, int]:
+def _read_body(braces: Braces, pos: int) -> tuple[int, int, int]:
     """The body: a ``{…}`` group or a single token.  Returns (start, end, after)."""
+    text = braces.text
     pos = skip_space(text, pos)
-    group = match_group(text, pos)
+    group = match_group(braces, pos)
     if group is not None:
         return group.inner_start, group.inner_end, group.end
     if pos >= len(text):
@@ -120,31 +144,34 @@ def _read_body(text: str, pos: int) -> tuple[int, int, int]:
     return pos, end, end
 
 
-def read_definition(command: str, text: str, start: int, source: SourceText, order: int) -> tuple[MacroDefinition, int]:
+def read_definition(
+    command: str, braces: Braces, start: int, source: SourceText, order: int
+) -> tuple[MacroDefinition, int]:
     """Read the definition whose defining command starts at ``start``.
 
     :param command: the defining command with its backslash (a key of :data:`DEFINING_COMMANDS`).
-    :param text: the file's text (verbatim regions blanked).
+    :param braces: the file's text (verbatim regions blanked) and its brace partners.
     :param start: offset of the defining command.
     :raises DefinitionError: the definition is malformed.
     :returns: the definition and the offset just after it.
     """
     style = DEFINING_COMMANDS[command]
+    text = braces.text
     pos = start + len(command)
     if style == "def":
-        return _read_def(command, text, start, pos, source, order)
+        return _read_def(command, braces, start, pos, source, order)
     star = text.startswith("*", pos)
     if star:
         pos += 1
-    name, pos = _read_name(text, pos)
+    name, pos = _read_name(braces, pos)
     if style == "operator":
-        body_start, body_end, end = _read_body(text, pos)
+        body_start, body_end, end = _read_body(braces, pos)
         operator = text[body_start:body_end]
         body = rf"\operatorname{'*' if star else ''}{{{operator}}}"
         span = Span(start, end)
         return MacroDefinition(name, 0, None, body, source, body_start, span, operator=True, order=order), end
-    nargs, default, pos = _read_arity(text, pos)
-    body_start, body_end, end = _read_body(text, pos)
+    nargs, default, pos = _read_arity(braces, pos)
+    body_start, body_end, end = _read_body(braces, pos)
     definition = MacroDefinition(
         name, nargs, default, text[body_start:body_end], source, body_start, Span(start, end),
         provide=command == r"\providecommand", order=order,
@@ -152,11 +179,12 @@ def read_definition(command: str, text: str, start: int, source: SourceText, ord
     return definition, end
 
 
-def _read_arity(text: str, pos: int) -> tuple[int, str | None, int]:
+def _read_arity(braces: Braces, pos: int) -> tuple[int, str | None, int]:
     """``[n]`` and ``[default]`` after a ``\\newcommand`` name."""
+    text = braces.text
     nargs, default = 0, None
     at = skip_space(text, pos)
-    group = match_group(text, at, "[", "]")
+    group = match_group(braces, at, "[")
     if group is None:
         return nargs, default, pos
     count = text[group.inner_start : group.inner_end].strip()
@@ -164,7 +192,7 @@ def _read_arity(text: str, pos: int) -> tuple[int, str | None, int]:
         raise DefinitionError(f"the number of arguments must be 0 to 9, not [{count}]", at)
     nargs, pos = int(count), group.end
     at = skip_space(text, pos)
-    group = match_group(text, at, "[", "]")
+    group = match_group(braces, at, "[")
     if group is not None:
         if nargs == 0:
             raise DefinitionError("a default value needs at least one argument", at)
@@ -175,8 +203,11 @@ def _read_arity(text: str, pos: int) -> tuple[int, str | None, int]:
 _DEF_PARAMS = re.compile(r"(?:#[1-9])*")
 
 
-def _read_def(command: str, text: str, start: int, pos: int, source: SourceText, order: int) -> tuple[MacroDefinition, int]:
+def _read_def(
+    command: str, braces: Braces, start: int, pos: int, source: SourceText, order: int
+) -> tuple[MacroDefinition, int]:
     """``\\def\\name{body}`` or ``\\def\\name#1#2{body}`` (undelimited parameters only)."""
+    text = braces.text
     pos = skip_space(text, pos)
     match = _NAME.match(text, pos)
     if match is None:
@@ -192,7 +223,7 @@ def _read_def(command: str, text: str, start: int, pos: int, source: SourceText,
         raise DefinitionError(
             f"{command}{name} has delimited parameters or no {{body}}; only {command}\\name#1…{{body}} is read", pos
         )
-    group = match_group(text, pos)
+    group = match_group(braces, pos)
     assert group is not None
     definition = MacroDefinition(
         name, nargs, None, text[group.inner_start : group.inner_end], source, group.inner_start,

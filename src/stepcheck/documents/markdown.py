@@ -29,7 +29,6 @@ from .model import BlockKind, DirectiveText, Document, Excerpt, MathBlock, MathP
 
 logger = logging.getLogger(__name__)
 
-_COMMENT = re.compile(r"<!--(.*?)-->", re.S)
 _PERCENT = re.compile(r"\\.|(?P<comment>%[^\n]*)", re.S)
 _AMS_OPEN = re.compile(r"\\begin\{([A-Za-z]+\*?)\}")
 
@@ -42,6 +41,7 @@ def parser() -> MarkdownIt:
         .use(dollarmath_plugin, allow_blank_lines=False, allow_digits=False, double_inline=True)
         .use(amsmath_plugin)
     )
+    _remember_unclosed_blocks(md)
     _let_dollar_blocks_interrupt(md)
     for name in _MARKED_BLOCK_RULES:
         _record_line_starts(md, name)
@@ -73,6 +73,50 @@ def _record_line_starts(md: MarkdownIt, name: str) -> None:
         return ok
 
     rule.fn = recording
+    md.block.ruler.__compiled__ = None
+
+
+def _remember_unclosed_blocks(md: MarkdownIt) -> None:
+    """Make a failed search for a block's end count for every later opener it covered.
+
+    The ``$$`` and ``amsmath`` rules search forward for their end on every probe, and
+    a paragraph probes them at each of its lines, so many unclosed openers made reading
+    quadratic (minutes for 20,000 lines).  When a search from line L0 finds no end up
+    to line Lb, no opener of the same kind on a line between them can find one either
+    (the end tests look only at a line's end): those probes now fail at once.
+    """
+    dollar = next(r for r in md.block.ruler.__rules__ if r.name == "math_block")
+    ams = next(r for r in md.block.ruler.__rules__ if r.name == "amsmath")
+    dollar_original, ams_original = dollar.fn, ams.fn
+
+    def dollar_guarded(state: Any, start: int, end: int, silent: bool) -> bool:
+        memo = state.env.setdefault("stepcheck-unclosed", {})
+        line_start = state.src.rfind("\n", 0, state.bMarks[start]) + 1
+        key = ("$$", end, state.bMarks[start] - line_start)
+        known = memo.get(key)
+        if known is not None and known[0] < start < known[1]:
+            return False
+        ok = dollar_original(state, start, end, silent)
+        first = state.src[state.bMarks[start] + state.tShift[start] : state.eMarks[start]]
+        if not ok and first.startswith("$$") and "$$" not in first[2:]:
+            stop = next((line for line in range(start + 1, end) if state.isEmpty(line)), end)
+            memo[key] = (start, stop)
+        return ok
+
+    def ams_guarded(state: Any, start: int, end: int, silent: bool) -> bool:
+        memo = state.env.setdefault("stepcheck-unclosed", {})
+        first = state.src[state.bMarks[start] + state.tShift[start] : state.eMarks[start]]
+        opener = _AMS_OPEN.match(first)
+        key = ("ams", opener.group(0) if opener else "", end)
+        known = memo.get(key)
+        if opener is not None and known is not None and known < start:
+            return False
+        ok = ams_original(state, start, end, silent)
+        if not ok and opener is not None and not state.sCount[start] < state.blkIndent:
+            memo[key] = start
+        return ok
+
+    dollar.fn, ams.fn = dollar_guarded, ams_guarded
     md.block.ruler.__compiled__ = None
 
 
@@ -170,6 +214,23 @@ def _find_piece(text: str, piece: str, start: int, end: int) -> int | None:
         return start + len(stripped) - len(piece)
     found = line.find(piece)
     return None if found == -1 else start + found
+
+
+def _comment_bodies(text: str) -> list[tuple[int, int]]:
+    """``(start, end)`` of the non-empty inside of each ``<!-- … -->`` in ``text``
+    (one pass: an unclosed ``<!--`` ends the search instead of rescanning)."""
+    bodies: list[tuple[int, int]] = []
+    pos = 0
+    while True:
+        opening = text.find("<!--", pos)
+        if opening == -1:
+            return bodies
+        closing = text.find("-->", opening + 4)
+        if closing == -1:
+            return bodies
+        if closing > opening + 4:
+            bodies.append((opening + 4, closing))
+        pos = closing + 3
 
 
 def _sub_excerpt(excerpt: Excerpt, start: int, end: int) -> Excerpt:
@@ -302,19 +363,17 @@ class _Reader:
         meta = child.meta or {}
         if excerpt is None or "start" not in meta:
             return
-        for match in _COMMENT.finditer(child.content):
-            if match.end(1) > match.start(1):
-                start = excerpt.to_file(meta["start"] + match.start(1))
-                end = excerpt.to_file(meta["start"] + match.end(1) - 1) + 1
-                self._directive(start, end)
+        for body_start, body_end in _comment_bodies(child.content):
+            start = excerpt.to_file(meta["start"] + body_start)
+            end = excerpt.to_file(meta["start"] + body_end - 1) + 1
+            self._directive(start, end)
 
     def _html_block(self, token: MdToken) -> None:
         excerpt = _excerpt_of(token.content, token.map[0], self.lines, token)
         if excerpt is None:
             return
-        for match in _COMMENT.finditer(token.content):
-            if match.end(1) > match.start(1):
-                self._directive(excerpt.to_file(match.start(1)), excerpt.to_file(match.end(1) - 1) + 1)
+        for body_start, body_end in _comment_bodies(token.content):
+            self._directive(excerpt.to_file(body_start), excerpt.to_file(body_end - 1) + 1)
 
     def _directive(self, start: int, end: int, at_row_end: bool = False) -> None:
         """A directive whose comment body spans normalised offsets ``[start, end)``."""

@@ -13,6 +13,7 @@ stay those of the file.
 
 from __future__ import annotations
 
+import functools
 import logging
 import os
 import pathlib
@@ -22,7 +23,7 @@ from dataclasses import dataclass, field
 from ..source import SourceText, Span
 from .directives import directive_body
 from .files import InputError, display_path, read_document_text
-from .macros import DefinitionError, match_group, read_definition, skip_space
+from .macros import Braces, DefinitionError, match_group, read_definition, skip_space
 from .model import BlockKind, DirectiveText, Document, Excerpt, MacroDefinition, MathBlock, MathProblem, ReaderNote
 
 logger = logging.getLogger(__name__)
@@ -42,7 +43,7 @@ _ARGUMENT_ENVIRONMENTS = frozenset({"alignat", "alignat*"})
 
 _VERBATIM_SCAN = re.compile(
     r"(?P<comment>%[^\n]*)"
-    r"|(?P<verb>\\verb\*?(?P<delim>[^A-Za-z\s*])[^\n]*?(?P=delim))"
+    r"|(?P<verb>\\verb\*?(?P<delim>[^A-Za-z\s*])[^\n]{0,1000}?(?P=delim))"
     r"|\\begin[ \t]*\{(?P<env>" + "|".join(re.escape(e) for e in sorted(VERBATIM_ENVIRONMENTS)) + r")\}"
     r"|(?P<iffalse>\\iffalse)(?![A-Za-z@])"
     r"|\\.",
@@ -62,7 +63,7 @@ _SCAN = re.compile(
     re.S,
 )
 
-_DISPLAY_NAMES = "|".join(re.escape(e) for e in sorted(DISPLAY_ENVIRONMENTS))
+_DISPLAY_NAMES = "|".join(re.escape(e) for e in sorted(DISPLAY_ENVIRONMENTS | INLINE_ENVIRONMENTS))
 _BLANK_LINE = r"\n[ \t\r]*\n"
 _CLOSERS = {
     "$": re.compile(r"\\.|%[^\n]*|(?P<close>\$)|(?P<stop>" + _BLANK_LINE + ")", re.S),
@@ -83,6 +84,7 @@ def blank_verbatim(text: str) -> str:
         return text
     pieces: list[str] = []
     last = pos = 0
+    conditional_ends: dict[int, int] | None = None
     while True:
         match = _VERBATIM_SCAN.search(text, pos)
         if match is None:
@@ -95,9 +97,11 @@ def blank_verbatim(text: str) -> str:
             start = match.start()
             end = len(text) if closing == -1 else closing + len(match.group("env")) + 6
         elif match.group("iffalse"):
-            found = _matching_fi(text, match.end())
+            if conditional_ends is None:
+                conditional_ends = _conditional_ends(text)
+            found = conditional_ends.get(match.start())
             if found is None:
-                continue
+                continue  # never closed: hide nothing
             start, end = match.start(), found
         else:
             continue
@@ -108,21 +112,17 @@ def blank_verbatim(text: str) -> str:
     return "".join(pieces)
 
 
-def _matching_fi(text: str, pos: int) -> int | None:
-    """The offset after the ``\\fi`` that closes an ``\\iffalse`` (nested conditionals
-    counted), or None when there is none (then nothing is hidden)."""
-    depth = 1
-    while True:
-        match = _CONDITIONAL.search(text, pos)
-        if match is None:
-            return None
-        pos = match.end()
+def _conditional_ends(text: str) -> dict[int, int]:
+    """For each ``\\if…`` of the text, the offset after the ``\\fi`` that closes it
+    (nested conditionals paired in one pass; an unclosed one is absent)."""
+    ends: dict[int, int] = {}
+    opened: list[int] = []
+    for match in _CONDITIONAL.finditer(text):
         if match.group("open"):
-            depth += 1
-        elif match.group("close"):
-            depth -= 1
-            if depth == 0:
-                return pos
+            opened.append(match.start())
+        elif match.group("close") and opened:
+            ends[opened.pop()] = match.end()
+    return ends
 
 
 @dataclass
@@ -179,6 +179,34 @@ class _Scanner:
         self.source = source
         self.file = file
         self.text = blank_verbatim(source.text)
+        self._braces: Braces | None = None
+        # Searches for a closer that failed: key → (searched from, where it stopped, the stop).
+        # A later opener inside that stretch fails the same way, so many unclosed openers
+        # cost one search, not one each.
+        self._dead_ends: dict[str, tuple[int, int, re.Match[str] | None]] = {}
+
+    @property
+    def braces(self) -> Braces:
+        if self._braces is None:
+            self._braces = Braces(self.text)
+        return self._braces
+
+    def _search_closer(self, key: str, pattern: re.Pattern[str], pos: int) -> re.Match[str] | None:
+        """The match that closes (``close``) or stops (``stop``) the math opened before
+        ``pos``; None when the end of the file comes first."""
+        dead = self._dead_ends.get(key)
+        if dead is not None and dead[0] <= pos < dead[1]:
+            return dead[2]
+        start = pos
+        while True:
+            match = pattern.search(self.text, pos)
+            if match is None or match.group("stop"):
+                stop = len(self.text) if match is None else match.start()
+                self._dead_ends[key] = (start, stop, match)
+                return match
+            if match.group("close"):
+                return match
+            pos = match.end()
 
     def run(self) -> None:
         pos = 0
@@ -238,21 +266,16 @@ class _Scanner:
     # -- math --------------------------------------------------------------------
 
     def _delimited(self, start: int, inner: int, opener: str, kind: BlockKind) -> int:
-        pattern = _CLOSERS[opener]
-        pos = inner
-        while True:
-            match = pattern.search(self.text, pos)
-            if match is None or match.group("stop"):
-                self._problem(
-                    f"math opened by '{opener}' is never closed by '{_CLOSER_TEXT[opener]}' "
-                    "(a blank line or the end of the file came first)",
-                    Span(start, inner),
-                )
-                return inner
-            if match.group("close"):
-                self._block(kind, opener, Span(start, match.end()), inner, match.start())
-                return match.end()
-            pos = match.end()
+        match = self._search_closer(opener, _CLOSERS[opener], inner)
+        if match is None or match.group("stop"):
+            self._problem(
+                f"math opened by '{opener}' is never closed by '{_CLOSER_TEXT[opener]}' "
+                "(a blank line or the end of the file came first)",
+                Span(start, inner),
+            )
+            return inner
+        self._block(kind, opener, Span(start, match.end()), inner, match.start())
+        return match.end()
 
     def _environment(self, match: re.Match[str]) -> int:
         name = match.group("name").strip()
@@ -266,25 +289,15 @@ class _Scanner:
             return match.end()
         inner = match.end()
         if name in _ARGUMENT_ENVIRONMENTS:
-            group = _safe_group(self.text, skip_space(self.text, inner))
+            group = _safe_group(self.braces, skip_space(self.text, inner))
             if group is not None:
                 inner = group
-        closer = re.compile(
-            r"(?P<close>\\end[ \t]*\{" + re.escape(name) + r"\})"
-            r"|(?P<stop>\\(?:begin|end)[ \t]*\{(?:" + _DISPLAY_NAMES + r"|document)\})"
-            r"|\\.|%[^\n]*",
-            re.S,
-        )
-        pos = inner
-        while True:
-            found = closer.search(self.text, pos)
-            if found is None or found.group("stop"):
-                return self._unclosed_environment(name, match, found)
-            if found.group("close"):
-                kind = BlockKind.INLINE if name in INLINE_ENVIRONMENTS else BlockKind.DISPLAY
-                self._block(kind, name, Span(match.start(), found.end()), inner, found.start())
-                return found.end()
-            pos = found.end()
+        found = self._search_closer("\\begin{" + name + "}", _environment_closer(name), inner)
+        if found is None or found.group("stop"):
+            return self._unclosed_environment(name, match, found)
+        kind = BlockKind.INLINE if name in INLINE_ENVIRONMENTS else BlockKind.DISPLAY
+        self._block(kind, name, Span(match.start(), found.end()), inner, found.start())
+        return found.end()
 
     def _unclosed_environment(self, name: str, match: re.Match[str], stop: re.Match[str] | None) -> int:
         """Report an environment that is never closed; go on reading after the ``\\end``
@@ -312,7 +325,7 @@ class _Scanner:
 
     def _definition(self, command: str, start: int) -> int:
         try:
-            definition, end = read_definition(command, self.text, start, self.source, self.out.next_order())
+            definition, end = read_definition(command, self.braces, start, self.source, self.out.next_order())
         except DefinitionError as exc:
             self._note(f"{command} not read: {exc.message}", Span(exc.offset, exc.offset + 1))
             return start + len(command)
@@ -326,7 +339,7 @@ class _Scanner:
         command = self.text[start:after]
         pos = skip_space(self.text, after)
         try:
-            group = match_group(self.text, pos)
+            group = match_group(self.braces, pos)
         except DefinitionError:
             group = None
         if group is not None:
@@ -374,10 +387,22 @@ class _Scanner:
             self.out.reading.pop()
 
 
-def _safe_group(text: str, pos: int) -> int | None:
+def _safe_group(braces: Braces, pos: int) -> int | None:
     """The offset after a ``{…}`` argument at ``pos``, or None."""
     try:
-        group = match_group(text, pos)
+        group = match_group(braces, pos)
     except DefinitionError:
         return None
     return None if group is None else group.end
+
+
+@functools.lru_cache(maxsize=64)
+def _environment_closer(name: str) -> re.Pattern[str]:
+    """What closes ``\\begin{name}`` (``close``), or shows it was never closed (``stop``:
+    another top-level math environment, or ``\\end{document}``)."""
+    return re.compile(
+        r"(?P<close>\\end[ \t]*\{" + re.escape(name) + r"\})"
+        r"|(?P<stop>\\(?:begin|end)[ \t]*\{(?:" + _DISPLAY_NAMES + r"|document)\})"
+        r"|\\.|%[^\n]*",
+        re.S,
+    )
