@@ -16,7 +16,6 @@ from __future__ import annotations
 import random
 from typing import TYPE_CHECKING, Any, Callable
 
-import numpy as np
 import sympy
 
 from ..context.model import AssumptionKind, Layout

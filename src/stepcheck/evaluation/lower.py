@@ -12,9 +12,8 @@ own, so their summed indices never capture the caller's, then relabelled.
 
 from __future__ import annotations
 
-import functools
 import logging
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from typing import Any, Callable
 
 import numpy as np
@@ -24,72 +23,31 @@ from ..context.model import Definition, Summation
 from ..expressions import nodes as N
 from . import linalg
 from .analysis import scalar_name
-from .model import Env, Model, poly_terms
+from .arithmetic import ArithmeticRules
+from .functions import FunctionRules
+from .model import Env, Model
+from .state import State
 from .values import (
     ONE,
     ZERO,
     AnyValue,
     IndexMismatch,
     LazyValue,
-    OutOfDomain,
     ShapeMismatch,
     Unsupported,
     Value,
     as_array,
     make_value,
+    labels_to_positional,
     obj_array,
+    reduce_axis,
     shape_text,
+    to_positional,
 )
 
 logger = logging.getLogger(__name__)
 
 
-@dataclass(frozen=True, slots=True)
-class State:
-    """What lowering a subtree depends on besides the node."""
-
-    bound: frozenset[str] = frozenset()
-    """Labels bound by enclosing ``\\sum``/``\\prod`` (never Einstein-summed)."""
-    frozen: frozenset[str] = frozenset()
-    """Defined names not expanded (variables of chain-rule derivatives)."""
-    keep: frozenset[str] | None = None
-    """While differentiating symbolically: names the result must stay symbolic in;
-    a subtree free of them is a placeholder filled with numbers per draw."""
-    overrides: tuple[tuple[str, Value], ...] = ()
-    """Parameters of a definition applied to arguments (``L(\\mathbf{v})``)."""
-    definition: bool = False
-    """Inside a definition's body: its row's ``(no sum)`` mark does not reach it."""
-
-    def override(self, name: str) -> Value | None:
-        for key, value in self.overrides:
-            if key == name:
-                return value
-        return None
-
-    def cache_key(self) -> tuple:
-        return (self.bound, self.frozen, self.keep, tuple((k, id(v)) for k, v in self.overrides), self.definition)
-
-
-def _sigma(x: Any) -> Any:
-    return ONE / (ONE + sympy.exp(-x))
-
-
-#: Elementwise functions (SPEC §8); σ is the logistic function.
-ELEMENTWISE: dict[str, Callable[[Any], Any]] = {
-    "exp": sympy.exp,
-    "log": sympy.log,
-    "ln": sympy.log,
-    "sqrt": sympy.sqrt,
-    "sin": sympy.sin,
-    "cos": sympy.cos,
-    "tan": sympy.tan,
-    "sinh": sympy.sinh,
-    "cosh": sympy.cosh,
-    "tanh": sympy.tanh,
-    "sigma": _sigma,
-}
-#: Functions of a whole block (vector or matrix) returning a block.
-BLOCKWISE = frozenset({"softmax", "tr", "det", "logdet", "diag", "vec"})
 #: Node kinds a placeholder may stand for while differentiating.
 _COMPOUND = (
     N.Add, N.Mul, N.Neg, N.Div, N.Pow, N.Apply, N.Norm, N.Abs, N.Inner, N.Hadamard, N.Kron,
@@ -97,7 +55,7 @@ _COMPOUND = (
 )
 
 
-class Lowerer:
+class Lowerer(ArithmeticRules, FunctionRules):
     """Lowers trees of one step at one model and one environment."""
 
     def __init__(self, model: Model, env: Env, placeholders: list | None = None):
@@ -232,7 +190,7 @@ class Lowerer:
         if not subs:
             if family:
                 raise Unsupported(f"the family {getattr(node, 'name', '')} written without a member subscript", node.span)
-            return make_value(_to_positional(native)) if positional else Value(native)
+            return make_value(to_positional(native)) if positional else Value(native)
         if len(subs) > native.ndim or (not family and len(subs) != native.ndim):
             raise ShapeMismatch(
                 f"{getattr(node, 'name', 'a tensor')} of shape {shape_text(native.shape)} is written with {len(subs)} subscripts",
@@ -302,7 +260,7 @@ class Lowerer:
             data = np.moveaxis(np.diagonal(data, axis1=a, axis2=b), -1, a).copy()
             del labels[b]
             if labels.count(name) == 1 and self._sums(name, st):
-                data = _reduce_axis(data, a, "sum")
+                data = reduce_axis(data, a, "sum")
                 del labels[a]
         return Value(data, tuple(labels))
 
@@ -325,7 +283,7 @@ class Lowerer:
                 )
             value = value.with_labels(tuple(definition.indices))
             if not node.subs:
-                return _labels_to_positional(value, node)
+                return labels_to_positional(value, node)
             if len(node.subs) != len(definition.indices):
                 raise ShapeMismatch(
                     f"{definition.name} is defined with {len(definition.indices)} indices but written with {len(node.subs)}",
@@ -390,344 +348,6 @@ class Lowerer:
         self.placeholders.append((dummies, node, numeric_state))  # type: ignore[union-attr]
         return Value(dummies, probe.labels)
 
-    # ------------------------------------------------------------------ arithmetic
-
-    def lower_Neg(self, node: N.Neg, st: State) -> AnyValue:
-        value = self.lower(node.operand, st)
-        if isinstance(value, LazyValue):
-            return value.scaled(-ONE)
-        return Value(-value.data if value.data.ndim else as_array(-value.scalar()), value.labels)
-
-    def lower_Add(self, node: N.Add, st: State) -> AnyValue:
-        constant = [self._is_constant(t) for t in node.terms]
-        return self.add([self.lower(t, st) for t in node.terms], st, node, constant)
-
-    def _is_constant(self, node: N.Node) -> bool:
-        """A purely numeric term (``1``, ``\\tfrac12``, ``n - 1``): constant along every
-        index and added elementwise to a vector or matrix (SPEC §7, §8)."""
-        if isinstance(node, (N.Number, N.Constant, N.Zero)):
-            return True
-        if isinstance(node, N.Symbol):
-            return not node.subs and node.name in self.model.analysis.dimension_values
-        if isinstance(node, (N.Neg, N.Mul, N.Div, N.Pow, N.Add)):
-            return all(self._is_constant(c) for c in node.children())
-        return False
-
-    def add(self, terms: list[AnyValue], st: State, node: N.Node, constant: list[bool] | None = None) -> AnyValue:
-        concrete = [t for t in terms if isinstance(t, Value) and t.pos_shape]
-        if not concrete:
-            concrete = [t for t in terms if isinstance(t, Value)]
-        lazies = [t for t in terms if isinstance(t, LazyValue)]
-        if lazies and not concrete:
-            kinds = {t.kind for t in lazies if t.kind != "zero"}
-            if not kinds:
-                return LazyValue("zero")
-            if len(kinds) == 1:
-                return LazyValue(kinds.pop(), sympy.Add(*[t.factor for t in lazies if t.kind != "zero"]))
-            raise Unsupported("a sum of identity and ones of unknown size", node.span)
-        ref = concrete[0]
-        values = [t.materialize(ref.pos_shape) if isinstance(t, LazyValue) else t for t in terms]
-        labels: list[str] = list(values[0].labels)
-        for v in values[1:]:
-            labels.extend(l for l in v.labels if l not in labels)
-        sizes: dict[str, int] = {}
-        for v in values:
-            for l, s in v.label_sizes.items():
-                if sizes.setdefault(l, s) != s:
-                    raise ShapeMismatch(f"index {l} ranges over {sizes[l]} and {s} values", node.span)
-        constant = constant or [False] * len(values)
-        for v, fixed in zip(values, constant):
-            missing = [l for l in labels if l not in v.labels]
-            bad = [l for l in missing if not (self._explicit(st) or fixed or l in st.bound)]
-            if bad:
-                raise IndexMismatch(f"the terms of a sum have different free indices (index {bad[0]})", node.span)
-        pos_shapes = {v.pos_shape for v in values if v.pos_shape}
-        if len(pos_shapes) > 1:
-            raise ShapeMismatch("a sum of shapes " + " and ".join(shape_text(s) for s in sorted(pos_shapes)), node.span)
-        pos = pos_shapes.pop() if pos_shapes else ()
-        if pos and any(not v.pos_shape and not fixed for v, fixed in zip(values, constant)):
-            raise ShapeMismatch(f"a sum of a scalar and a {shape_text(pos)} array (only a number is added elementwise)", node.span)
-        target = tuple(sizes[l] for l in labels) + pos
-        arrays = [_broadcast(v, tuple(labels), target) for v in values]
-        data = obj_array(target, lambda i: sympy.Add(*[a[i] for a in arrays]))
-        return Value(data, tuple(labels))
-
-    def lower_Mul(self, node: N.Mul, st: State) -> AnyValue:
-        values = [self.lower(f, st) for f in node.factors]
-        self._check_counts(values, st, node)
-        return functools.reduce(lambda a, b: self.product(a, b, st, node), values)
-
-    def _check_counts(self, values: list[AnyValue], st: State, node: N.Node) -> None:
-        if self._explicit(st):
-            return
-        counts: dict[str, int] = {}
-        for v in values:
-            for l in getattr(v, "labels", ()):
-                counts[l] = counts.get(l, 0) + 1
-        for l, c in counts.items():
-            if c > 2 and l not in st.bound:
-                raise IndexMismatch(f"index {l} appears {c} times in one product", node.span)
-
-    def product(self, a: AnyValue, b: AnyValue, st: State, node: N.Node) -> AnyValue:
-        """The product of two factors: Einstein contraction of shared labels, matrix
-        product of positional parts."""
-        if isinstance(a, LazyValue) or isinstance(b, LazyValue):
-            return self._lazy_product(a, b, st, node)
-        shared = [l for l in a.labels if l in b.labels]
-        for l in shared:
-            if a.label_sizes[l] != b.label_sizes[l]:
-                raise ShapeMismatch(f"index {l} ranges over {a.label_sizes[l]} and {b.label_sizes[l]} values", node.span)
-        contract = {l for l in shared if self._sums(l, st)}
-        letters = _Letters()
-        sa = [letters.of(l) for l in a.labels]
-        sb = [letters.of(l) for l in b.labels]
-        pa, pb = a.pos_shape, b.pos_shape
-        out_pos: list[str] = []
-        if pa and pb:
-            if len(pa) != 2 or len(pb) != 2:
-                raise Unsupported(f"a product of arrays of shapes {shape_text(pa)} and {shape_text(pb)}", node.span)
-            if pa[1] != pb[0]:
-                raise ShapeMismatch(f"a product of shapes {shape_text(pa)} and {shape_text(pb)}", node.span)
-            r, k, c = letters.fresh(), letters.fresh(), letters.fresh()
-            sa += [r, k]
-            sb += [k, c]
-            out_pos = [r, c]
-        else:
-            fresh_a = [letters.fresh() for _ in pa]
-            fresh_b = [letters.fresh() for _ in pb]
-            sa += fresh_a
-            sb += fresh_b
-            out_pos = fresh_a + fresh_b
-        out_labels = [l for l in a.labels if l not in contract] + [l for l in b.labels if l not in a.labels]
-        out = "".join(letters.of(l) for l in out_labels) + "".join(out_pos)
-        data = np.einsum(f"{''.join(sa)},{''.join(sb)}->{out}", a.data, b.data)
-        return make_value(as_array(data), tuple(out_labels))
-
-    def _lazy_product(self, a: AnyValue, b: AnyValue, st: State, node: N.Node) -> AnyValue:
-        if isinstance(a, Value) and a.is_scalar:
-            return b.scaled(a.scalar())  # type: ignore[union-attr]
-        if isinstance(b, Value) and b.is_scalar:
-            return a.scaled(b.scalar())  # type: ignore[union-attr]
-        if isinstance(a, LazyValue) and isinstance(b, LazyValue):
-            if "zero" in (a.kind, b.kind):
-                return LazyValue("zero")
-            if a.kind == "eye":
-                return b.scaled(a.factor)
-            if b.kind == "eye":
-                return a.scaled(b.factor)
-            raise Unsupported("a product of ones vectors of unknown size", node.span)
-        lazy, other, lazy_left = (a, b, True) if isinstance(a, LazyValue) else (b, a, False)
-        assert isinstance(lazy, LazyValue) and isinstance(other, Value)
-        if lazy.kind == "eye":
-            return Value(other.data * lazy.factor, other.labels)
-        if lazy.kind == "zero":
-            return LazyValue("zero")
-        pos = other.pos_shape
-        if len(pos) != 2:
-            raise Unsupported("a labelled factor next to a ones vector of unknown size", node.span)
-        # 1ᵀA needs a row as long as A is high; A1 a column as long as A is wide
-        if lazy_left and lazy.row:
-            concrete = lazy.materialize((1, pos[0]))
-            return self.product(concrete, other, st, node)
-        if not lazy_left and not lazy.row:
-            concrete = lazy.materialize((pos[1], 1))
-            return self.product(other, concrete, st, node)
-        raise Unsupported("the size of \\mathbf{1} cannot be told from its neighbours", node.span)
-
-    def lower_Dot(self, node: N.Dot, st: State) -> AnyValue:
-        a, b = self.lower(node.left, st), self.lower(node.right, st)
-        if isinstance(a, Value) and isinstance(b, Value) and not a.labels and not b.labels:
-            la, lb = linalg.vector_length(a.pos_shape), linalg.vector_length(b.pos_shape)
-            if la is not None and lb is not None:
-                if la != lb:
-                    raise ShapeMismatch(f"a dot product of vectors of lengths {la} and {lb}", node.span)
-                return Value(as_array(sympy.Add(*[x * y for x, y in zip(a.data.flat, b.data.flat)])))
-        self._check_counts([a, b], st, node)
-        return self.product(a, b, st, node)
-
-    def lower_Cross(self, node: N.Cross, st: State) -> AnyValue:
-        a, b = self.lower(node.left, st), self.lower(node.right, st)
-        if isinstance(a, Value) and isinstance(b, Value) and not a.labels and not b.labels:
-            if linalg.vector_length(a.pos_shape) == 3 and linalg.vector_length(b.pos_shape) == 3:
-                return Value(linalg.cross(a.data, b.data))
-        self._check_counts([a, b], st, node)
-        return self.product(a, b, st, node)
-
-    def lower_Hadamard(self, node: N.Hadamard, st: State) -> AnyValue:
-        return self.elementwise(self.lower_value(node.left, st), self.lower_value(node.right, st), lambda x, y: x * y, node)
-
-    def elementwise(self, a: Value, b: Value, fn: Callable[[Any, Any], Any], node: N.Node) -> Value:
-        """An elementwise binary operation (shared labels are the same index; a scalar
-        positional part broadcasts)."""
-        labels = list(a.labels) + [l for l in b.labels if l not in a.labels]
-        sizes = {**b.label_sizes, **a.label_sizes}
-        for l in set(a.labels) & set(b.labels):
-            if a.label_sizes[l] != b.label_sizes[l]:
-                raise ShapeMismatch(f"index {l} ranges over {a.label_sizes[l]} and {b.label_sizes[l]} values", node.span)
-        pa, pb = a.pos_shape, b.pos_shape
-        if pa and pb and pa != pb:
-            raise ShapeMismatch(f"an elementwise operation on shapes {shape_text(pa)} and {shape_text(pb)}", node.span)
-        target = tuple(sizes[l] for l in labels) + (pa or pb)
-        xa, xb = _broadcast(a, tuple(labels), target), _broadcast(b, tuple(labels), target)
-        return make_value(obj_array(target, lambda i: fn(xa[i], xb[i])), tuple(labels))
-
-    def lower_Kron(self, node: N.Kron, st: State) -> AnyValue:
-        a, b = self.lower_value(node.left, st), self.lower_value(node.right, st)
-        if a.labels or b.labels:
-            raise Unsupported("a Kronecker product of tensors with free indices", node.span)
-        return make_value(linalg.kron(a.data, b.data))
-
-    def lower_Div(self, node: N.Div, st: State) -> AnyValue:
-        num = self.lower(node.numerator, st)
-        den = self.lower_value(node.denominator, st)
-        if den.pos_shape:
-            raise Unsupported(f"a division by a {shape_text(den.pos_shape)} array", node.span)
-        recip = den.map(linalg.reciprocal)
-        if isinstance(num, LazyValue):
-            if recip.labels:
-                raise Unsupported("an identity or ones divided by a tensor with free indices", node.span)
-            return num.scaled(recip.scalar())
-        return self.elementwise(num, recip, lambda x, y: x * y, node)
-
-    def lower_Pow(self, node: N.Pow, st: State) -> AnyValue:
-        exponent = self.lower_value(node.exponent, st)
-        if exponent.labels or exponent.pos_shape:
-            base = self.lower_value(node.base, st)
-            if base.pos_shape and exponent.pos_shape:
-                raise Unsupported("a power of an array to an array exponent", node.exponent.span)
-            # e^{z_i}, 2^{\mathbf{k}}: elementwise
-            return self.elementwise(base, exponent, lambda x, y: self._power(x, y, node), node)
-        e = exponent.scalar()
-        if isinstance(node.base, N.Norm) and node.base.kind in (None, "2", "F") and _even_integer(e):
-            inner = self.lower_value(node.base.operand, st)
-            if not inner.labels:
-                return Value(as_array(linalg.sum_of_squares(inner.data) ** (e / 2)))
-        base = self.lower_value(node.base, st)
-        pos = base.pos_shape
-        if not pos or (isinstance(node.base, N.Apply) and node.base.func in ELEMENTWISE):
-            # a power of an elementwise function (\tanh^2(\mathbf{z})) is elementwise
-            return base.map(lambda x: self._power(x, e, node))
-        if len(pos) == 2 and pos[0] == pos[1]:
-            if not (isinstance(e, sympy.Integer) or (getattr(e, "is_integer", False) and e.is_number)):
-                raise Unsupported(f"a non-integer power of a {shape_text(pos)} matrix", node.span)
-            return self._blockwise(base, lambda b: linalg.matrix_power(b, int(e)))
-        raise Unsupported(f"a power of a {shape_text(pos)} array (write \\|x\\|^2 or x^\\top x)", node.span)
-
-    def _power(self, x: Any, e: Any, node: N.Node) -> Any:
-        if self.env.numeric and x.is_number:
-            if x == 0 and e.is_number and e < 0:
-                raise OutOfDomain("a division by zero")
-            if x.is_number and x < 0 and e.is_number and not e.is_integer:
-                raise OutOfDomain("a fractional power of a negative number")
-        return x**e
-
-    def lower_Transpose(self, node: N.Transpose, st: State) -> AnyValue:
-        value = self.lower(node.operand, st)
-        if isinstance(value, LazyValue):
-            return value.transposed()
-        return self._blockwise(value, linalg.transpose)
-
-    def _blockwise(self, value: Value, fn: Callable[[np.ndarray], Any]) -> Value:
-        """Apply a positional-block function to every labelled component."""
-        if not value.labels:
-            return make_value(as_array(fn(value.data)))
-        blocks = {idx: as_array(fn(block)) for idx, block in value.blocks()}
-        shape = next(iter(blocks.values())).shape if blocks else ()
-        lead = value.data.shape[: len(value.labels)]
-        data = np.empty(lead + shape, dtype=object)
-        for idx, block in blocks.items():
-            data[idx] = block[()] if block.ndim == 0 else block
-        return make_value(data, value.labels)
-
-    # ------------------------------------------------------------------ functions
-
-    def lower_Apply(self, node: N.Apply, st: State) -> AnyValue:
-        func = node.func
-        definition = self.context.definitions.get(func)
-        if definition is not None and func not in st.frozen:
-            return self._apply_definition(node, definition, st)
-        if not node.user and func in ELEMENTWISE and len(node.args) == 1:
-            arg = self.lower_value(node.args[0], st)
-            return arg.map(functools.partial(self._function, func))
-        if not node.user and func in BLOCKWISE and len(node.args) == 1:
-            return self._block_function(func, self.lower_value(node.args[0], st), node)
-        if func.rstrip("'") in self.model.analysis.functions:
-            return self._user_function(node, st)
-        raise Unsupported(f"the function {func}", node.span)
-
-    def _function(self, func: str, x: Any) -> Any:
-        if self.env.numeric and x.is_number:
-            if func in ("log", "ln") and x <= 0:
-                raise OutOfDomain("a logarithm of a number that is not positive")
-            if func == "sqrt" and x < 0:
-                raise OutOfDomain("a square root of a negative number")
-        return ELEMENTWISE[func](x)
-
-    def _block_function(self, func: str, arg: Value, node: N.Node) -> Value:
-        if func == "softmax":
-            return self._blockwise(arg, lambda b: linalg.softmax(b, sympy.exp))
-        if func == "tr":
-            return self._blockwise(arg, linalg.trace)
-        if func == "det":
-            return self._blockwise(arg, linalg.det)
-        if func == "logdet":
-            return self._blockwise(arg, lambda b: self._function("log", linalg.det(b)))
-        if func == "diag":
-            return self._blockwise(arg, linalg.diag)
-        return self._blockwise(arg, linalg.vec)
-
-    def _apply_definition(self, node: N.Apply, definition: Definition, st: State) -> Value:
-        params = [p.name for p in definition.params if isinstance(p, N.Symbol)]
-        if len(params) != len(definition.params) or len(params) != len(node.args):
-            raise Unsupported(
-                f"{definition.name} is defined with {len(definition.params)} parameters and applied to {len(node.args)}",
-                node.span,
-            )
-        args = tuple((p, self.lower_value(a, st)) for p, a in zip(params, node.args))
-        inner = State(frozen=st.frozen, keep=st.keep, overrides=args, definition=True)
-        value = self.lower_value(definition.body, inner)
-        if definition.indices:
-            return _labels_to_positional(value.with_labels(tuple(definition.indices)), node)
-        return value
-
-    def _user_function(self, node: N.Apply, st: State) -> Value:
-        base = node.func.rstrip("'")
-        order = len(node.func) - len(base)
-        args = [self.lower_value(a, st) for a in node.args]
-        coeffs = self.env.functions[base]
-        terms = poly_terms(len(args))
-        if len(args) == 1:
-            t = sympy.Symbol("t")
-            poly = sympy.Add(*[c * t**k for c, (k,) in zip(coeffs, terms)])
-            if order:
-                poly = sympy.diff(poly, t, order)
-            return args[0].map(lambda x: poly.xreplace({t: x}))
-        if order:
-            raise Unsupported(f"a derivative {node.func} of a function of {len(args)} arguments", node.span)
-        if any(a.labels or a.pos_shape for a in args):
-            raise Unsupported(f"the function {base} applied to arguments that are not scalars", node.span)
-        xs = [a.scalar() for a in args]
-        total = sympy.Add(*[c * sympy.Mul(*[x**k for x, k in zip(xs, exps)]) for c, exps in zip(coeffs, terms)])
-        return Value(as_array(total))
-
-    def lower_Norm(self, node: N.Norm, st: State) -> AnyValue:
-        value = self.lower_value(node.operand, st)
-        return self._blockwise(value, lambda b: linalg.norm(b, node.kind, functools.partial(self._function, "sqrt")))
-
-    def lower_Abs(self, node: N.Abs, st: State) -> AnyValue:
-        return self.lower_value(node.operand, st).map(sympy.Abs)
-
-    def lower_Inner(self, node: N.Inner, st: State) -> AnyValue:
-        a, b = self.lower_value(node.left, st), self.lower_value(node.right, st)
-        pa, pb = a.pos_shape, b.pos_shape
-        if pa != pb:
-            if linalg.vector_length(pa) is not None and linalg.vector_length(pa) == linalg.vector_length(pb):
-                b = self._blockwise(b, linalg.transpose)
-            else:
-                raise ShapeMismatch(f"an inner product of shapes {shape_text(pa)} and {shape_text(pb)}", node.span)
-        prod = self.elementwise(a, b, lambda x, y: x * y, node)
-        return self._blockwise(prod, lambda blk: sympy.Add(*blk.flat) if blk.ndim else blk[()])
-
     # ------------------------------------------------------------------ sums, components, literals
 
     def lower_BigOp(self, node: N.BigOp, st: State) -> AnyValue:
@@ -756,7 +376,7 @@ class Lowerer:
         if axis is None:
             return value.map(lambda x: x * count if node.op == "sum" else x**count)
         data = np.take(value.data, list(range(lo, hi + 1)), axis=axis)
-        data = _reduce_axis(data, axis, node.op)
+        data = reduce_axis(data, axis, node.op)
         labels = value.labels[:axis] + value.labels[axis + 1 :]
         return make_value(data, labels)
 
@@ -792,60 +412,6 @@ class Lowerer:
         from .derivatives import lower_derivative
 
         return lower_derivative(self, node, st)
-
-
-class _Letters:
-    """einsum subscript letters for labels and fresh positional axes."""
-
-    def __init__(self) -> None:
-        self.map: dict[str, str] = {}
-        self.pool = iter("abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ")
-
-    def of(self, label: str) -> str:
-        if label not in self.map:
-            self.map[label] = next(self.pool)
-        return self.map[label]
-
-    def fresh(self) -> str:
-        return next(self.pool)
-
-
-def _to_positional(native: np.ndarray) -> np.ndarray:
-    return native.reshape(native.shape + (1,)) if native.ndim == 1 else native
-
-
-def _labels_to_positional(value: Value, node: N.Node) -> Value:
-    """A value defined by components (``b_i = …``) used bare (``\\mathbf{b}``)."""
-    if value.pos_shape:
-        raise Unsupported("a tensor defined by components with a matrix part", node.span)
-    if len(value.labels) > 2:
-        raise Unsupported(f"a {len(value.labels)}-index tensor used without indices", node.span)
-    return make_value(_to_positional(value.data))
-
-
-def _broadcast(value: Value, labels: tuple[str, ...], target: tuple[int, ...]) -> np.ndarray:
-    """A value's data broadcast to ``labels`` followed by a positional shape."""
-    data = value.data
-    order = [l for l in labels if l in value.labels]
-    data = value.with_labels(tuple(order)).data
-    shape = []
-    it = iter(data.shape[: len(order)])
-    for l in labels:
-        shape.append(next(it) if l in value.labels else 1)
-    pos = data.shape[len(order):]
-    pos_target = target[len(labels):]
-    data = data.reshape(tuple(shape) + (pos if pos else (1,) * len(pos_target)))
-    return np.broadcast_to(data, target)
-
-
-def _reduce_axis(data: np.ndarray, axis: int, op: str) -> np.ndarray:
-    moved = np.moveaxis(data, axis, -1)
-    combine = sympy.Add if op == "sum" else sympy.Mul
-    return obj_array(moved.shape[:-1], lambda i: combine(*moved[i]))
-
-
-def _even_integer(e: Any) -> bool:
-    return bool(getattr(e, "is_integer", False)) and e.is_number and e > 0 and e % 2 == 0
 
 
 _HANDLERS: dict[type, Callable[..., AnyValue]] = {

@@ -14,7 +14,7 @@ operation next to a sized value tells their size.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable, Iterable
+from typing import Any, Callable, Iterable
 
 import numpy as np
 import sympy
@@ -182,6 +182,27 @@ class LazyValue:
         if self.kind == "eye":
             return (n, n)
         return (1, n) if self.row else (n, 1)
+
+
+def to_positional(native: np.ndarray) -> np.ndarray:
+    """A native vector ``(d,)`` as a column ``(d, 1)``; other shapes unchanged."""
+    return native.reshape(native.shape + (1,)) if native.ndim == 1 else native
+
+
+def labels_to_positional(value: Value, node: Any) -> Value:
+    """A value defined by components (``b_i = …``) used bare (``\\mathbf{b}``)."""
+    if value.pos_shape:
+        raise Unsupported("a tensor defined by components with a matrix part", node.span)
+    if len(value.labels) > 2:
+        raise Unsupported(f"a {len(value.labels)}-index tensor used without indices", node.span)
+    return make_value(to_positional(value.data))
+
+
+def reduce_axis(data: np.ndarray, axis: int, op: str) -> np.ndarray:
+    """Sum (``"sum"``) or multiply (``"prod"``) along one axis, one sympy Add/Mul per entry."""
+    moved = np.moveaxis(data, axis, -1)
+    combine = sympy.Add if op == "sum" else sympy.Mul
+    return obj_array(moved.shape[:-1], lambda i: combine(*moved[i]))
 
 
 AnyValue = Value | LazyValue
