@@ -9,6 +9,7 @@ skipped.  Chains and unreadable entries are numbered per source path from 1.
 
 from __future__ import annotations
 
+import bisect
 import logging
 from dataclasses import dataclass, field
 from typing import Union
@@ -52,12 +53,9 @@ class _Switches:
     """Row-end directives by the order of the display they stand in."""
 
     def off_at(self, order: int) -> bool:
-        state = False
-        for at, off in self.toggles:
-            if at >= order:
-                break
-            state = off
-        return state
+        """Whether the last ``off``/``on`` before ``order`` is ``off`` (toggles are in order)."""
+        k = bisect.bisect_left(self.toggles, (order, False)) - 1
+        return k >= 0 and self.toggles[k][1]
 
 
 def structure_of(document: Document) -> Structure:
@@ -95,7 +93,7 @@ class _Builder:
 
     def _directives(self) -> _Switches:
         switches = _Switches()
-        displays = [b for b in self.document.blocks if b.kind is BlockKind.DISPLAY]
+        displays = _Displays([b for b in self.document.blocks if b.kind is BlockKind.DISPLAY])
         for text in self.document.directives:
             try:
                 result = interpret(text)
@@ -106,11 +104,11 @@ class _Builder:
                 self._math_directive(result)
                 continue
             self.directives.append(result)
-            home = _display_holding(displays, result) if result.at_row_end else None
+            home = displays.holding(result) if result.at_row_end else None
             if home is not None:
                 switches.row_end.setdefault(home.order, []).append(result)
             if result.word is DirectiveWord.SKIP and home is None:
-                target = next((b for b in displays if b.order > result.order), None)
+                target = displays.after(result.order)
                 if target is not None:
                     switches.skip_blocks.add(target.order)
             elif result.word in (DirectiveWord.OFF, DirectiveWord.ON):
@@ -223,8 +221,11 @@ class _Builder:
         """Per row: skipped by a row-end ``skip``; inside ``off``…``on``."""
         skip = [False] * len(rows)
         off = [switches.off_at(block.order)] * len(rows)
-        for directive in switches.row_end.get(block.order, []):
-            row = _row_of(directive.span.start, rows, breaks, block.source)
+        directives = switches.row_end.get(block.order, [])
+        finder = _RowFinder(rows, breaks, block.source) if directives else None
+        for directive in directives:
+            assert finder is not None
+            row = finder.row_of(directive.span.start)
             if directive.word is DirectiveWord.SKIP:
                 skip[row] = True
             elif directive.word in (DirectiveWord.OFF, DirectiveWord.ON):
@@ -269,27 +270,58 @@ def _to_file(excerpt: Excerpt, span: Span) -> Span:
     return Span(start, end)
 
 
-def _display_holding(displays: list[MathBlock], directive: Directive) -> MathBlock | None:
-    for block in displays:
-        if block.source is directive.source and block.span.start <= directive.span.start < block.span.end:
-            return block
-    return None
+class _Displays:
+    """The display blocks of a document, found by order or by position."""
+
+    def __init__(self, blocks: list[MathBlock]):
+        self.blocks = blocks
+        self.orders = [b.order for b in blocks]
+        self.by_source: dict[int, list[MathBlock]] = {}
+        for block in blocks:
+            self.by_source.setdefault(id(block.source), []).append(block)
+        self.starts = {key: [b.span.start for b in found] for key, found in self.by_source.items()}
+
+    def after(self, order: int) -> MathBlock | None:
+        """The first display after document order ``order``."""
+        k = bisect.bisect_right(self.orders, order)
+        return self.blocks[k] if k < len(self.blocks) else None
+
+    def holding(self, directive: Directive) -> MathBlock | None:
+        """The display whose text holds the directive comment, if any."""
+        key = id(directive.source)
+        found = self.by_source.get(key, [])
+        k = bisect.bisect_right(self.starts.get(key, []), directive.span.start) - 1
+        if k >= 0 and directive.span.start < found[k].span.end:
+            return found[k]
+        return None
 
 
-def _row_of(offset: int, rows: list[list[Token]], breaks: list[Token], source: SourceText) -> int:
-    """The row a directive comment at ``offset`` applies to: the row of the last token
-    before it on its line (a ``\\\\`` belongs to the row it ends), else, for a comment
-    on a line of its own, the row of the next token."""
-    placed: list[tuple[Token, int]] = []
-    for index, row in enumerate(rows):
-        placed.extend((t, index) for t in row if t.kind is not TokenKind.COMMENT)
-        if index < len(breaks):
-            placed.append((breaks[index], index))
-    line = source.position(offset).line
-    before = [(t, r) for t, r in placed if t.span.end <= offset]
-    if before and source.position(max(before[-1][0].span.end - 1, 0)).line == line:
-        return before[-1][1]
-    after = next((r for t, r in placed if t.span.start >= offset), None)
-    if after is not None:
-        return after
-    return len(rows) - 1
+class _RowFinder:
+    """Which row of a display a directive comment applies to: the row of the last token
+    before it on its line (a ``\\\\`` belongs to the row it ends), else, for a comment on
+    a line of its own, the row of the next token."""
+
+    def __init__(self, rows: list[list[Token]], breaks: list[Token], source: SourceText):
+        self.source = source
+        self.count = len(rows)
+        placed: list[tuple[Token, int]] = []
+        for index, row in enumerate(rows):
+            placed.extend((t, index) for t in row if t.kind is not TokenKind.COMMENT)
+            if index < len(breaks):
+                placed.append((breaks[index], index))
+        placed.sort(key=lambda item: item[0].span.start)
+        self.placed = placed
+        self.starts = [t.span.start for t, _ in placed]
+        self.ends = sorted((t.span.end, k) for k, (t, _) in enumerate(placed))
+
+    def row_of(self, offset: int) -> int:
+        line = self.source.position(offset).line
+        k = bisect.bisect_right(self.ends, (offset, len(self.placed))) - 1
+        if k >= 0:
+            end, index = self.ends[k]
+            if self.source.position(max(end - 1, 0)).line == line:
+                return self.placed[index][1]
+        after = bisect.bisect_left(self.starts, offset)
+        if after < len(self.placed):
+            return self.placed[after][1]
+        return self.count - 1
