@@ -65,6 +65,8 @@ def structure_of(document: Document) -> Structure:
 
 
 class _Builder:
+    """Builds the :class:`Structure` of one document (one use per document)."""
+
     def __init__(self, document: Document):
         self.document = document
         self.expander = Expander(MacroTable(document.macros))
