@@ -7,6 +7,7 @@ math reader, in a context built by hand.
 
 from __future__ import annotations
 
+import contextlib
 from fractions import Fraction
 from typing import Any, Iterable
 
@@ -28,7 +29,18 @@ from stepcheck.settings import Settings
 from stepcheck.source import SourceText, Span
 from stepcheck.verdicts import RelationKind
 
-evaluation.RAISE_INTERNAL_ERRORS = True
+
+
+@contextlib.contextmanager
+def strict_evaluation():
+    """Within the block an evaluator bug raises instead of becoming ``unsupported``."""
+    previous = evaluation.RAISE_INTERNAL_ERRORS
+    evaluation.RAISE_INTERNAL_ERRORS = True
+    try:
+        yield
+    finally:
+        evaluation.RAISE_INTERNAL_ERRORS = previous
+
 
 #: Relation texts → kinds, for ``decide_latex(..., relation="\\le")``.
 RELATIONS = {
@@ -107,12 +119,14 @@ def decide_latex(
     left = parse_latex(lhs, ctx.vocabulary)
     right = parse_latex(rhs, ctx.vocabulary)
     settings = Settings(seed=seed, trials=trials)
-    return evaluation.decide(left, right, RELATIONS[relation], ctx, settings, relation_text=relation)
+    with strict_evaluation():
+        return evaluation.decide(left, right, RELATIONS[relation], ctx, settings, relation_text=relation)
 
 
 def decide_nodes(lhs: N.Node, rhs: N.Node, context: StepContext, relation: str = "=", trials: int = 4) -> Outcome:
     """Decide hand-built trees."""
-    return evaluation.decide(lhs, rhs, RELATIONS[relation], context, Settings(trials=trials), relation_text=relation)
+    with strict_evaluation():
+        return evaluation.decide(lhs, rhs, RELATIONS[relation], context, Settings(trials=trials), relation_text=relation)
 
 
 def num(value: int | Fraction) -> N.Number:

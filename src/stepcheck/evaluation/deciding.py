@@ -295,4 +295,6 @@ ERROR_VERDICTS: dict[type, Verdict] = {
 def outcome_of_error(error: EvaluationError) -> Outcome:
     """The outcome of a step that could not be decided as written."""
     verdict = ERROR_VERDICTS.get(type(error), Verdict.UNSUPPORTED)
-    return Outcome(verdict, message=error.message, column=error.span.start if error.span is not None else None)
+    span = error.span
+    column = span.start if span is not None and span.end > span.start else None
+    return Outcome(verdict, message=error.message, column=column)
