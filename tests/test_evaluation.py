@@ -363,3 +363,8 @@ def test_bare_gradient_takes_the_one_input():
 def test_exponent_with_free_indices_is_elementwise():
     outcome = decide_latex(r"\sum_c e^{z_c}", r"\mathbf{1}^\top \exp(\mathbf{z})", shapes={"z": ("k",)})
     assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.FLOAT_SAMPLE
+
+
+def test_fixed_sizes_of_dimensions_the_step_does_not_use_are_not_reported():
+    outcome = decide_latex(r"(A B)^\top", r"B^\top A^\top", shapes=MATRICES, sizes={"q": 3})
+    assert outcome.message == "held exactly on 8 random draws at sizes n=2,m=3,p=4 and n=3,m=4,p=2"

@@ -171,7 +171,8 @@ class Walker:
             self.visit(side, scope=(("main",),), frozen=frozenset(), bound_names=frozenset(), in_diff=False)
         self._classify()
         for letter, size in self.context.shapes.sizes.items():
-            self.a.uf.fix(dim_key(letter), size)
+            if dim_key(letter) in self.a.uf.parent:  # only dimensions this step uses
+                self.a.uf.fix(dim_key(letter), size)
         for node in self._cross_nodes:
             self._fix_cross(node)
         return self.a
