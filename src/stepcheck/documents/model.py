@@ -2,7 +2,7 @@
 
 A reader (``tex``, ``markdown``, ``notebook``) turns one input path into one
 :class:`Document`.  Each block names its own :class:`SourceText`, so the blocks of
-an ``\input`` file or of a notebook cell report their own path and lines while the
+an ``\\input`` file or of a notebook cell report their own path and lines while the
 document shares one context (definitions, declarations).  Readers never parse
 math: they find it and say exactly where it is.
 """
