@@ -113,7 +113,7 @@ def _decide(plan: StepPlan, settings: Settings) -> Outcome:
         return Outcome(Verdict.SKIPPED, message=f"relation {step.relation.text} is reported, not checked")
     from .evaluation import decide  # sympy loads only when something is decided
 
-    return decide(plan.lhs, plan.rhs, relation, plan.context, settings)
+    return decide(plan.lhs, plan.rhs, relation, plan.context, settings, relation_text=step.relation.text)
 
 
 def _balances_explicitly(plan: StepPlan) -> bool:
@@ -134,7 +134,7 @@ def _explicit_reading_hint(plan: StepPlan, settings: Settings) -> str | None:
     if plan.defines is not None or plan.step.relation.kind is RelationKind.APPROX:
         return plan.findings[0].hint
     explicit = replace(plan.context, no_sum=True)
-    outcome = decide(plan.lhs, plan.rhs, plan.step.relation.kind, explicit, settings)
+    outcome = decide(plan.lhs, plan.rhs, plan.step.relation.kind, explicit, settings, relation_text=plan.step.relation.text)
     if outcome.verdict is Verdict.HOLDS:
         return (
             "holds when read without implicit summation (repeated indices elementwise); if "
