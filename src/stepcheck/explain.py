@@ -1,4 +1,4 @@
-"""``stepcheck explain --math``: how a snippet of math is read.
+"""``stepcheck explain``: how a snippet (``--math``) or a document line (``FILE:LINE``) is read.
 
 Three sections: the tree (one node a line, indented), every tensor occurrence with its
 indices, and the reading chosen for each ambiguity met (with the rule's id from
@@ -7,11 +7,20 @@ indices, and the reading chosen for each ambiguity met (with the rule's id from
 
 from __future__ import annotations
 
+import json
+from typing import TYPE_CHECKING, Sequence
+
 from .context.model import Vocabulary
 from .expressions import nodes as n
-from .expressions.parser import SideReading, read_latex
+from .expressions.errors import ParseError
+from .expressions.parser import SideReading, read_latex, read_side
 from .expressions.printer import to_latex
+from .results import Outcome
+from .settings import Settings
 from .source import SourceText, Span
+
+if TYPE_CHECKING:
+    from .context.build import StepPlan
 
 
 def explain_math(latex: str, vocabulary: Vocabulary | None = None) -> str:
@@ -74,3 +83,96 @@ def _indices(subs: tuple[n.Index | n.Fixed, ...]) -> str:
 def _quote(span: Span, source: SourceText) -> str:
     column = source.position(span.start).column
     return f"`{source.slice(span)}` (column {column})"
+
+
+# --------------------------------------------------------------------------- explain FILE:LINE
+
+
+def explain_line(path: str, line: int, settings: Settings | None = None) -> str:
+    """Explain every step reported on one line of a document: how each side was read
+    (tree, tensors, readings), its indices and shapes, its sympy form, and its verdict.
+
+    :param path: a document path; a notebook cell is ``nb.ipynb#cell3``.
+    :param line: a 1-based line (within the cell for a notebook).
+    :param settings: the run's settings (seed, layout …); defaults when None.
+    :raises InputError: the file cannot be read, or no step stands on that line.
+    :returns: the explanation, several lines.
+    """
+    from . import pipeline
+    from .checks.describe import plan_lines
+    from .context.build import build_context
+    from .documents import InputError, discover, read_path
+    from .expressions.splitting import structure_of
+
+    settings = settings or Settings()
+    file_path, _, cell = path.partition("#")
+    (found, display, root), *_ = discover([file_path])
+    document = read_path(found, display, root)
+    wanted = display + (f"#{cell}" if cell else "")
+    context = build_context(structure_of(document), settings)
+    plans = _plans_on(context.plans, wanted, line)
+    if not plans:
+        nearby = sorted({_line_of(p) for p in context.plans if p.step.source.path == wanted})
+        hint = f"; steps stand on lines {_some(nearby, line)}" if nearby else "; the file has no steps"
+        raise InputError(f"{wanted}:{line}: no step is reported on this line{hint}")
+    out: list[str] = []
+    for plan in plans:
+        out.extend(plan_lines(plan, context.origins))
+        out.extend(_reading_lines(plan))
+        if plan.lhs is not None and plan.rhs is not None and plan.parse_error is None:
+            from .evaluation.describe import describe_step
+
+            out.extend(describe_step(plan.lhs, plan.rhs, plan.context))
+        out.extend(_verdict_lines(pipeline.decide_plan(plan, settings)))
+        out.append("")
+    return "\n".join(out).rstrip("\n")
+
+
+def _plans_on(plans: Sequence[StepPlan], path: str, line: int) -> list[StepPlan]:
+    """Steps reported on the line; else steps whose sides cover it."""
+    here = [p for p in plans if p.step.source.path == path]
+    exact = [p for p in here if _line_of(p) == line]
+    if exact:
+        return exact
+    covering = []
+    for plan in here:
+        source = plan.step.source
+        first = source.position(plan.step.lhs.span.start).line
+        last = source.position(plan.step.rhs.span.end).line
+        if first <= line <= last:
+            covering.append(plan)
+    return covering
+
+
+def _line_of(plan: StepPlan) -> int:
+    return plan.step.source.position(plan.step.position_offset).line
+
+
+def _some(lines: list[int], near: int) -> str:
+    closest = sorted(lines, key=lambda x: (abs(x - near), x))[:5]
+    return ", ".join(str(x) for x in sorted(closest))
+
+
+def _reading_lines(plan: StepPlan) -> list[str]:
+    lines: list[str] = []
+    source = plan.step.source
+    for word, side in (("left", plan.step.lhs), ("right", plan.step.rhs)):
+        lines.append(f"{word} side `{side.latex(source)}`:")
+        try:
+            reading = read_side(side.tokens, plan.context.vocabulary, source)
+        except ParseError as error:
+            lines.append(f"  not read: {error.message}")
+            continue
+        for part in explain_reading(reading, source):
+            lines.extend("  " + line for line in part.splitlines())
+    return lines
+
+
+def _verdict_lines(outcome: Outcome) -> list[str]:
+    method = f" ({outcome.method.value})" if outcome.method is not None else ""
+    lines = [f"verdict: {outcome.verdict.value}{method}" + (f": {outcome.message}" if outcome.message else "")]
+    if outcome.hint:
+        lines.append(f"  hint: {outcome.hint}")
+    if outcome.counterexample is not None:
+        lines.append(f"  counterexample: {json.dumps(outcome.counterexample, sort_keys=False)}")
+    return lines

@@ -1,0 +1,47 @@
+"""``stepcheck explain FILE:LINE``: every stage's view of the steps on one line."""
+
+from __future__ import annotations
+
+import pytest
+
+from stepcheck.documents import InputError
+from stepcheck.explain import explain_line
+
+DOC = r"""\documentclass{article}
+\begin{document}
+A mooring line has tension $T \in \mathbb{R}^{n\times n}$ and $\mathbf{v} \in \mathbb{R}^{n}$.
+\begin{align}
+  (T\mathbf{v})_i &= T_{ij} v_j \\
+  s &= v_i v_i v_i
+\end{align}
+\end{document}
+"""
+
+
+@pytest.fixture()
+def doc(tmp_path):
+    path = tmp_path / "mooring.tex"
+    path.write_text(DOC, encoding="utf-8")
+    return path
+
+
+def test_explains_a_holding_step_with_every_section(doc):
+    text = explain_line(str(doc), 5)
+    # GIVEN line 5 holds one step, WHEN explained, THEN each stage says its part.
+    assert text.startswith("step 1.1 at 5:22: `(T\\mathbf{v})_i` = `T_{ij} v_j`")
+    assert "T: n×n — declared on line 3" in text
+    assert "Component [_i]" in text  # the tree of the left side
+    assert "sympy form at sizes" in text
+    assert "verdict: holds" in text
+
+
+def test_explains_an_index_error(doc):
+    text = explain_line(str(doc), 6)
+    assert "index-error: index i appears 3 times" in text
+    assert "verdict: index-error" in text
+
+
+def test_a_line_without_a_step_is_a_clear_error(doc):
+    with pytest.raises(InputError) as caught:
+        explain_line(str(doc), 3)
+    assert "no step is reported on this line; steps stand on lines 5, 6" in str(caught.value)
