@@ -6,11 +6,14 @@ no checking logic of its own.
 
 from __future__ import annotations
 
+import concurrent.futures
 import logging
+import multiprocessing
 from dataclasses import replace
 from typing import Callable, Iterable, Sequence
 
 from . import __version__
+from .cache import StepCache, step_key
 from .checks.indices import check_indices
 from .context.build import DocumentContext, StepPlan, build_context
 from .documents import discover, read_path, read_text
@@ -37,7 +40,7 @@ def check_paths(
     exclude: Sequence[str] = (),
     progress: Progress | None = None,
 ) -> Report:
-    """Check documents on disk.
+    """Check documents on disk (decided steps are cached when ``settings.cache``).
 
     :raises InputError: a path is missing, unreadable, or a directory holds no documents.
     """
@@ -45,50 +48,104 @@ def check_paths(
     documents = [read_path(path, display, root) for path, display, root in found]
     included = {p for d in documents for p in d.included}
     documents = [d for d in documents if d.path not in included]
-    return check_documents(documents, settings, progress)
+    cache = StepCache(settings.cache_dir) if settings.cache else None
+    return check_documents(documents, settings, progress, cache)
 
 
 def check_text(text: str, kind: str = "tex", settings: Settings = Settings(), path: str = "<text>") -> Report:
-    """Check one document given as a string (``kind`` is ``"tex"`` or ``"md"``)."""
+    """Check one document given as a string (``kind`` is ``"tex"`` or ``"md"``); never cached."""
     return check_documents([read_text(text, kind, path)], settings)
 
 
 def check_documents(
-    documents: Iterable[Document], settings: Settings, progress: Progress | None = None
+    documents: Iterable[Document],
+    settings: Settings,
+    progress: Progress | None = None,
+    cache: StepCache | None = None,
 ) -> Report:
-    """Check read documents and build the report."""
-    files: list[FileReport] = []
+    """Check read documents and build the report.
+
+    Every document is read and planned first; then all steps are decided together (in
+    ``settings.jobs`` worker processes when more than one), and grouped back by file.
+    """
+    prepared = []
     for document in documents:
-        files.extend(check_document(document, settings, progress))
+        structure = structure_of(document)
+        prepared.append((document, structure, build_context(structure, settings)))
+    plans = [plan for _, _, context in prepared for plan in context.plans]
+    outcomes = iter(decide_plans(plans, settings, progress, cache))
+    files: list[FileReport] = []
+    for document, structure, context in prepared:
+        results = list(_unreadable_results(structure))
+        results.extend((plan.step.chain.order, _result(plan, next(outcomes))) for plan in context.plans)
+        files.extend(_group(document, structure, context, results))
     return Report(seed=settings.seed, files=tuple(files), version=__version__, strict=settings.strict)
 
 
 def check_document(document: Document, settings: Settings, progress: Progress | None = None) -> list[FileReport]:
     """Check one document; one :class:`FileReport` per source it spans (its ``\\input``
     files and notebook cells report under their own paths)."""
-    structure = structure_of(document)
-    context = build_context(structure, settings)
-    results: list[tuple[int, StepResult]] = []
-    for item in _unreadable_results(structure):
-        results.append(item)
-    total = len(context.plans)
-    for done, plan in enumerate(context.plans, start=1):
-        results.append((plan.step.chain.order, _result(plan, decide_plan(plan, settings))))
+    return list(check_documents([document], settings, progress).files)
+
+
+def decide_plans(
+    plans: Sequence[StepPlan], settings: Settings, progress: Progress | None = None, cache: StepCache | None = None
+) -> list[Outcome]:
+    """The outcome of every plan, in order; in worker processes when ``settings.jobs > 1``."""
+    total = len(plans)
+    workers = min(settings.jobs, total)
+    if workers > 1 and "fork" in multiprocessing.get_all_start_methods():
+        return _decide_in_workers(plans, settings, progress, cache, workers)
+    outcomes = []
+    for done, plan in enumerate(plans, start=1):
+        outcomes.append(decide_plan(plan, settings, cache))
         if progress is not None:
             progress(done, total)
-    return _group(document, structure, context, results)
+    return outcomes
 
 
-def decide_plan(plan: StepPlan, settings: Settings) -> Outcome:
-    """The outcome of one planned step, within its time limit."""
+#: The plans a forked worker decides (inherited at fork, so plans are never pickled).
+_WORK: tuple[Sequence[StepPlan], Settings, StepCache | None] | None = None
+
+
+def _work(index: int) -> Outcome:
+    assert _WORK is not None
+    plans, settings, cache = _WORK
+    return decide_plan(plans[index], settings, cache)
+
+
+def _decide_in_workers(
+    plans: Sequence[StepPlan], settings: Settings, progress: Progress | None, cache: StepCache | None, workers: int
+) -> list[Outcome]:
+    global _WORK
+    from . import evaluation  # noqa: F401  (load sympy once, before the fork, for every worker)
+
+    _WORK = (plans, settings, cache)
+    try:
+        context = multiprocessing.get_context("fork")
+        with concurrent.futures.ProcessPoolExecutor(workers, mp_context=context) as pool:
+            outcomes = []
+            for done, outcome in enumerate(pool.map(_work, range(len(plans)), chunksize=1), start=1):
+                outcomes.append(outcome)
+                if progress is not None:
+                    progress(done, len(plans))
+            return outcomes
+    finally:
+        _WORK = None
+
+
+def decide_plan(plan: StepPlan, settings: Settings, cache: StepCache | None = None) -> Outcome:
+    """The outcome of one planned step, within its time limit (loading sympy does not count)."""
+    if plan.lhs is not None and plan.rhs is not None and not plan.findings:
+        from . import evaluation  # noqa: F401
     try:
         with time_limit(settings.timeout):
-            return _decide(plan, settings)
+            return _decide(plan, settings, cache)
     except StepTimeout:
         return Outcome(Verdict.TIMEOUT, message=f"the step ran past its time limit of {settings.timeout:g} s")
 
 
-def _decide(plan: StepPlan, settings: Settings) -> Outcome:
+def _decide(plan: StepPlan, settings: Settings, cache: StepCache | None = None) -> Outcome:
     step = plan.step
     if step.skipped:
         return Outcome(Verdict.SKIPPED, message="skipped by a directive")
@@ -111,9 +168,17 @@ def _decide(plan: StepPlan, settings: Settings) -> Outcome:
         )
     if relation is RelationKind.APPROX:
         return Outcome(Verdict.SKIPPED, message=f"relation {step.relation.text} is reported, not checked")
+    key = step_key(plan.lhs, plan.rhs, step.relation.text, plan.context, settings) if cache else None
+    if cache is not None and key is not None:
+        stored = cache.get(key)
+        if stored is not None:
+            return stored
     from .evaluation import decide  # sympy loads only when something is decided
 
-    return decide(plan.lhs, plan.rhs, relation, plan.context, settings, relation_text=step.relation.text)
+    outcome = decide(plan.lhs, plan.rhs, relation, plan.context, settings, relation_text=step.relation.text)
+    if cache is not None and key is not None:
+        cache.put(key, outcome)
+    return outcome
 
 
 def _balances_explicitly(plan: StepPlan) -> bool:

@@ -32,7 +32,9 @@ class Settings:
     jobs: int = 1
     """Worker processes for deciding steps."""
     cache: bool = True
-    """Reuse decided steps from the cache folder."""
+    """Reuse decided steps from the cache folder (runs on files only; never for text)."""
+    cache_dir: str = ".stepcheck-cache"
+    """The cache folder, relative to the working directory unless absolute."""
 
     def initial_options(self) -> StepOptions:
         """The step options in force at the top of every file."""

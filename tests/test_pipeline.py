@@ -1,0 +1,112 @@
+"""The pipeline's own duties: worker processes, the step cache, the time limit, grouping."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+import stepcheck.evaluation as evaluation
+from stepcheck import pipeline
+from stepcheck.results import Outcome
+from stepcheck.settings import Settings
+from stepcheck.verdicts import Verdict
+
+DOC = r"""\documentclass{article}
+\begin{document}
+Rotor blades: $K \in \mathbb{R}^{n \times n}$, $\mathbf{u} \in \mathbb{R}^{n}$, $K = K^\top$.
+\begin{align}
+  E &= \tfrac{1}{2}\mathbf{u}^\top K \mathbf{u} , \\
+  \nabla_{\mathbf{u}} E &= K\mathbf{u} , \\
+  \frac{\partial E}{\partial u_i} &= K_{ij} u_j , \\
+  (K\mathbf{u})_i &= K_{ji} u_j , \\
+  \operatorname{tr}(K K^\top) &= K_{ij} K_{ij}
+\end{align}
+\end{document}
+"""
+
+
+def _write(tmp_path, text=DOC, name="blade.tex"):
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def _verdicts(report):
+    return [(s.line, s.verdict.value) for s in report.steps()]
+
+
+def test_worker_processes_give_the_same_report(tmp_path):
+    path = _write(tmp_path)
+    one = pipeline.check_paths([str(path)], Settings(jobs=1, cache=False))
+    two = pipeline.check_paths([str(path)], Settings(jobs=2, cache=False))
+    assert one.to_dict() == two.to_dict()
+    assert _verdicts(one) == [(5, "defines"), (6, "holds"), (7, "holds"), (8, "holds"), (9, "holds")]
+
+
+def test_a_second_run_reads_the_cache(tmp_path, monkeypatch):
+    path = _write(tmp_path)
+    settings = Settings(cache_dir=str(tmp_path / "cache"))
+    first = pipeline.check_paths([str(path)], settings)
+    assert list((tmp_path / "cache" / "decided").rglob("*.json")), "nothing was cached"
+
+    def refuse(*args, **kwargs):
+        raise AssertionError("the evaluator ran although every step was cached")
+
+    monkeypatch.setattr(evaluation, "decide", refuse)
+    second = pipeline.check_paths([str(path)], settings)
+    assert second.to_dict() == first.to_dict()
+
+
+def test_moving_a_step_keeps_its_cache_entry_and_editing_a_definition_does_not(tmp_path, monkeypatch):
+    settings = Settings(cache_dir=str(tmp_path / "cache"))
+    pipeline.check_paths([str(_write(tmp_path))], settings)
+    calls = []
+    real = evaluation.decide
+
+    def counting(*args, **kwargs):
+        calls.append(args[0])
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(evaluation, "decide", counting)
+    moved = DOC.replace(r"\begin{document}", "\\begin{document}\n\nA new paragraph.\n")
+    pipeline.check_paths([str(_write(tmp_path, moved))], settings)
+    assert calls == []
+    edited = DOC.replace(r"E &= \tfrac{1}{2}", r"E &= \tfrac{1}{3}")
+    report = pipeline.check_paths([str(_write(tmp_path, edited))], settings)
+    # the two steps that use E are decided again, and now fail; the others stay cached
+    assert len(calls) == 2
+    assert _verdicts(report)[1:3] == [(6, "fails"), (7, "fails")]
+
+
+def test_text_is_never_cached(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    pipeline.check_text(DOC, "tex", Settings())
+    assert not (tmp_path / ".stepcheck-cache").exists()
+
+
+def test_a_slow_step_times_out_and_the_run_goes_on(tmp_path, monkeypatch):
+    import time
+
+    real = evaluation.decide
+
+    def slow_on_traces(lhs, rhs, *args, **kwargs):
+        if "func='tr'" in repr(lhs):
+            time.sleep(5)
+        return real(lhs, rhs, *args, **kwargs)
+
+    monkeypatch.setattr(evaluation, "decide", slow_on_traces)
+    report = pipeline.check_paths([str(_write(tmp_path))], Settings(timeout=1.0, cache=False))
+    assert _verdicts(report)[-1] == (9, "timeout")
+    assert "time limit of 1 s" in report.steps()[-1].outcome.message
+    assert _verdicts(report)[1] == (6, "holds")
+
+
+def test_an_input_file_reports_under_its_own_path(tmp_path):
+    (tmp_path / "part.tex").write_text("\\begin{equation}\n  (AB)^\\top = B^\\top A^\\top\n\\end{equation}\n", encoding="utf-8")
+    main = _write(tmp_path, "\\begin{document}\n\\input{part}\n\\end{document}\n", "main.tex")
+    report = pipeline.check_paths([str(main), str(tmp_path / "part.tex")], Settings(cache=False))
+    paths = [f.path for f in report.files]
+    assert paths.count(str(tmp_path / "part.tex")) == 1, "an \\input file is reported once, not twice"
+    (step,) = report.steps()
+    assert (step.path, step.line, step.column, step.verdict) == (str(tmp_path / "part.tex"), 2, 15, Verdict.HOLDS)
