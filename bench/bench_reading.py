@@ -2,7 +2,7 @@
 
 Not a test (no timing assertions anywhere): run it by hand,
 
-    cd /work/main && python tests/data/documents/measure_reading.py
+    python bench/bench_reading.py      (from the repository root)
 
 It writes its inputs to a temporary folder and prints one line per file.
 """
@@ -15,7 +15,7 @@ import sys
 import tempfile
 import time
 
-sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[3] / "src"))
+sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[1] / "src"))
 
 from stepcheck.documents import discover, read_path  # noqa: E402
 from stepcheck.expressions.splitting import structure_of  # noqa: E402
