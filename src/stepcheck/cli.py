@@ -195,7 +195,7 @@ def check(ctx: click.Context, paths: tuple[str, ...], output: pathlib.Path | Non
         refuse_input(output, paths, run.config_path)
     from . import pipeline  # the checking stages load only when a check runs
 
-    with Progress(click.get_text_stream("stderr")) as progress:
+    with Progress(sys.stderr) as progress:
         report = pipeline.check_paths(list(paths), settings, run.include, run.exclude, progress)
     if output is not None:
         refuse_input(output, [f.path.partition("#")[0] for f in report.files], None)
@@ -251,7 +251,7 @@ def write_report(report: Report, format_name: str, output: pathlib.Path | None, 
     """
     reporter_class = REPORTERS[format_name]
     if output is None:
-        reporter_class(click.get_text_stream("stdout"), verbose=verbose).write(report)
+        reporter_class(sys.stdout, verbose=verbose).write(report)
         return
     buffer = io.StringIO()
     reporter_class(buffer, verbose=verbose, color=False).write(report)
