@@ -368,3 +368,14 @@ def test_exponent_with_free_indices_is_elementwise():
 def test_fixed_sizes_of_dimensions_the_step_does_not_use_are_not_reported():
     outcome = decide_latex(r"(A B)^\top", r"B^\top A^\top", shapes=MATRICES, sizes={"q": 3})
     assert outcome.message == "held exactly on 8 random draws at sizes n=2,m=3,p=4 and n=3,m=4,p=2"
+
+
+def test_a_number_side_is_constant_along_every_free_index():
+    # GIVEN row-stochastic weights A written by their definition (common practice: rows of a
+    # softmax sum to one), WHEN a side with a free index equals a plain number, THEN the number
+    # stands for every component.
+    shapes = {"S": ("n", "m"), "A": ("n", "m")}
+    defs = {"A_{ij}": r"\frac{\exp(S_{ij})}{\sum_{k} \exp(S_{ik})}"}
+    assert decide_latex(r"\sum_{j} A_{ij}", "1", shapes=shapes, definitions=defs).verdict is Verdict.HOLDS
+    wrong = decide_latex(r"\sum_{j} A_{ij}", "2", shapes=shapes, definitions=defs)
+    assert wrong.verdict is Verdict.FAILS

@@ -19,6 +19,7 @@ import numpy as np
 import sympy
 
 from ..expressions import nodes as N
+from ..checks.indices import is_constant
 from . import linalg
 from .model import FLOAT_DPS, tolerance
 from .values import AnyValue, IndexMismatch, LazyValue, OutOfDomain, ShapeMismatch, Value, make_value, shape_text
@@ -63,6 +64,10 @@ def align(lhs: AnyValue, rhs: AnyValue, lhs_node: N.Node, rhs_node: N.Node) -> A
         lhs = _zeros_like(rhs)
     elif _is_zero_scalar(rhs):
         rhs = _zeros_like(lhs)
+    elif rhs.is_scalar and not rhs.labels and is_constant(rhs_node):
+        rhs = _full_like(lhs, rhs.scalar())  # a number side is constant along every index
+    elif lhs.is_scalar and not lhs.labels and is_constant(lhs_node):
+        lhs = _full_like(rhs, lhs.scalar())
     if set(lhs.labels) != set(rhs.labels):
         raise IndexMismatch(
             f"the left side has free indices {_letters(lhs.labels)} and the right side {_letters(rhs.labels)}"
@@ -137,6 +142,10 @@ def _is_zero_scalar(v: Value) -> bool:
 
 def _zeros_like(v: Value) -> Value:
     return Value(np.full(v.data.shape, sympy.Integer(0), dtype=object), v.labels)
+
+
+def _full_like(v: Value, entry: Any) -> Value:
+    return Value(np.full(v.data.shape, entry, dtype=object), v.labels)
 
 
 def _transpose(v: Value) -> Value:
