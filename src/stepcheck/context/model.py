@@ -131,6 +131,8 @@ class Definition:
     """Document order, for the nearest-preceding / nearest-following rule."""
     display: bool
     """From display math (wins over an inline definition of the same symbol)."""
+    no_sum: bool = False
+    """The defining row is annotated ``\\text{(no sum)}``: its body is read elementwise."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -143,6 +145,10 @@ class ShapeTable:
     """Family name → the dimension its family index ranges over."""
     sizes: Mapping[str, int] = field(default_factory=dict)
     """Dimensions fixed by the document (``\\mathbb{R}^3``, an inline ``d = 3``)."""
+    homes: Mapping[str, tuple[bool, ...]] = field(default_factory=dict)
+    """Up-down mode: each tensor's home index heights (True = upper), from its declaration,
+    else its first use; an occurrence at other heights is the tensor with indices moved by
+    the metric."""
 
     def shape_of(self, name: str) -> Shape:
         """A symbol's shape; a scalar when nothing is known."""
