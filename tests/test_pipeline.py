@@ -110,3 +110,37 @@ def test_an_input_file_reports_under_its_own_path(tmp_path):
     assert paths.count(str(tmp_path / "part.tex")) == 1, "an \\input file is reported once, not twice"
     (step,) = report.steps()
     assert (step.path, step.line, step.column, step.verdict) == (str(tmp_path / "part.tex"), 2, 15, Verdict.HOLDS)
+
+
+def test_steps_written_with_document_macros_render_as_mathml():
+    # GIVEN a step written with the document's own macros, WHEN reported as HTML, THEN the math
+    # is rendered from the expanded text (the renderer does not know \vv) and the JSON keeps the
+    # text as written.
+    import io
+
+    from stepcheck.reporters.html import HtmlReporter
+
+    doc = "\\newcommand{\\vv}[1]{\\mathbf{#1}}\n\\[ (\\vv{a}^\\top \\vv{b})^\\top = \\vv{b}^\\top\\vv{a} \\]\n"
+    report = pipeline.check_text(doc, "tex", Settings())
+    (step,) = report.steps()
+    assert step.rhs == "\\vv{b}^\\top\\vv{a}"
+    assert step.rhs_math == "\\mathbf{b}^\\top\\mathbf{a}"
+    assert "rhs_math" not in step.to_dict()
+    out = io.StringIO()
+    HtmlReporter(out).write(report)
+    assert out.getvalue().count("<math") == 1
+    assert 'class="latex"' not in out.getvalue()
+
+
+@pytest.mark.parametrize("latex", [
+    r"\frac{\partial L}{\partial w_j} = -b_i X_{ij}",
+    r"\alpha x + \beta_{12} y^{2.5}",
+    r"\text{(no sum)} \begin{pmatrix} 1 & 2 \\ 3 & 4 \end{pmatrix}",
+    r"\left\lVert x \right\rVert_2^2 \quad \operatorname*{tr} A",
+])
+def test_expanded_math_reads_back_to_the_same_tokens(latex):
+    from stepcheck.expressions.tokens import tokenize, tokens_latex
+
+    tokens = tokenize(latex)
+    again = tokenize(tokens_latex(tokens))
+    assert [(t.kind, t.text) for t in again] == [(t.kind, t.text) for t in tokens]

@@ -20,6 +20,7 @@ from .documents import discover, read_path, read_text
 from .documents.model import Document
 from .expressions.chains import Structure, Unreadable
 from .expressions.splitting import structure_of
+from .expressions.tokens import tokens_latex
 from .limits import StepTimeout, time_limit
 from .results import FileNote, FileReport, Outcome, Report, StepResult
 from .context.model import Summation
@@ -223,6 +224,8 @@ def _result(plan: StepPlan, outcome: Outcome) -> StepResult:
         lhs=step.lhs.latex(source),
         rhs=step.rhs.latex(source),
         outcome=outcome,
+        lhs_math=tokens_latex(step.lhs.tokens),
+        rhs_math=tokens_latex(step.rhs.tokens),
     )
 
 

@@ -41,6 +41,10 @@ class StepResult:
     lhs: str
     rhs: str
     outcome: Outcome
+    lhs_math: str | None = None
+    """The left side with the document's macros expanded, for renderers (not in the JSON)."""
+    rhs_math: str | None = None
+    """The right side with the document's macros expanded, for renderers (not in the JSON)."""
 
     @property
     def verdict(self) -> Verdict:

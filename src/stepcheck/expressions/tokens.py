@@ -353,3 +353,35 @@ def tokens_text(tokens: Sequence[Token], source: SourceText) -> str:
     if not tokens:
         return ""
     return source.text[tokens[0].span.start : tokens[-1].span.end]
+
+
+def tokens_latex(tokens: Sequence[Token]) -> str:
+    """LaTeX that reads back to the same tokens (macros already expanded): for rendering a
+    step whose text uses the document's own macros, which a renderer does not know."""
+    parts: list[str] = []
+    for token in tokens:
+        kind = token.kind
+        if kind is TokenKind.TEXT:
+            parts.append("{" + token.text + "}")
+            continue
+        if kind is TokenKind.BEGIN:
+            text = rf"\begin{{{token.text}}}"
+        elif kind is TokenKind.END:
+            text = rf"\end{{{token.text}}}"
+        elif kind is TokenKind.PARAM:
+            text = "#" + token.text
+        elif kind is TokenKind.COMMENT:
+            continue
+        else:
+            text = token.text
+        if parts and _needs_space(parts[-1], text):
+            parts.append(" ")
+        parts.append(text)
+    return "".join(parts)
+
+
+def _needs_space(before: str, text: str) -> bool:
+    """A space keeps ``\\alpha x`` from becoming ``\\alphax`` and ``1 2`` from ``12``."""
+    if before.startswith("\\") and before[1:].isalpha():
+        return text[:1].isalpha() or text[:1].isdigit()
+    return before[-1:].isdigit() and (text[:1].isdigit() or text[:1] == ".")

@@ -100,6 +100,14 @@ def step_math(step: StepResult) -> str:
     return " ".join(" ".join(p.split()) for p in parts)
 
 
+def rendered_math(step: StepResult) -> str:
+    """The step as LaTeX for a renderer: the document's own macros expanded where known."""
+    if step.lhs_math is None or step.rhs_math is None:
+        return step_math(step)
+    parts = [p for p in (step.lhs_math, step.relation, step.rhs_math) if p]
+    return " ".join(" ".join(p.split()) for p in parts)
+
+
 def message_of(step: StepResult) -> str:
     """The step's message, or for a message-less ``holds`` the method that decided it."""
     outcome = step.outcome

@@ -14,7 +14,7 @@ from typing import Any, Iterable, Mapping
 
 from ..results import FileReport, Report, StepResult
 from ..verdicts import VERDICT_ORDER
-from ._base import Reporter, compact, message_of, step_math, summary_text, xml_safe
+from ._base import Reporter, compact, message_of, rendered_math, step_math, summary_text, xml_safe
 from ._mathml import to_mathml
 from .json_report import jsonable
 
@@ -124,11 +124,15 @@ class HtmlReporter(Reporter):
 
     @staticmethod
     def math(step: StepResult) -> str:
-        """The step's math as MathML with its source below, or the escaped source alone."""
+        """The step's math as MathML with its source below, or the escaped source alone.
+
+        The MathML is made from the step with the document's macros expanded (a renderer
+        does not know them); the source line below shows the step as written.
+        """
         latex = step_math(step)
         if not latex:
             return "<em>(no math)</em>"
-        mathml = to_mathml(latex)
+        mathml = to_mathml(rendered_math(step))
         if mathml is None:
             return f'<code class="latex">{esc(latex)}</code>'
         return f'{mathml}<code class="src">{esc(latex)}</code>'
