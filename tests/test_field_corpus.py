@@ -33,20 +33,6 @@ _DELTA1_LOST = (
     "definitions: delta^(1) lost to the `^{(2)\\top}` parse-error, so the (no sum) component row "
     "becomes its definition and is read in Einstein mode"
 )
-_INLINE_THEN_DISPLAY = (
-    "definitions: a display chain whose left side an earlier inline where-clause defines is "
-    "taken as a new definition instead of being checked (SPEC §4: no earlier line defines it)"
-)
-_OMEGA_CYCLE = (
-    "definitions: the display `\\Omega_{ji} = -\\Omega_{ij}` became a self-referential definition, "
-    "so every use of Omega is a cycle"
-)
-_E_KK = (
-    "definitions: `e_{kk} = 0` (repeated index on the left) accepted as a definition of e, which "
-    "breaks every later use of e"
-)
-_TWO_ARGS = "parser: a definition with two arguments, `f(U, V) = ...`, is a parse-error"
-_TWO_ARGS_USE = "definitions: cascade of the two-argument definition parse-error (no definition to differentiate)"
 _W_SHAPE = (
     "shapes: the wrong step `-W G^T r` drives inference to W (n x p) despite W = diag(w); the "
     "error is blamed on correct lines"
@@ -57,8 +43,6 @@ KNOWN: dict[str, str] = {
     "blade-root-calibration.tex:59:15": _W_SHAPE,
     "blade-root-calibration.tex:65:29": _W_SHAPE,
     "blade-root-calibration.tex:66:29": _W_SHAPE,
-    "depot-arc-flows.md:45:14": _INLINE_THEN_DISPLAY,
-    "depot-arc-flows.md:45:47": _INLINE_THEN_DISPLAY,
     "fouling-net-backprop.tex:24:30": _LABEL_TOP,
     "fouling-net-backprop.tex:30:27": _LABEL_TOP,
     "fouling-net-backprop.tex:31:36": _LABEL_TOP,
@@ -69,27 +53,10 @@ KNOWN: dict[str, str] = {
     "fouling-net-backprop.tex:47:21": _DELTA1_LOST,
     "fouling-net-backprop.tex:49:50": _DELTA1_LOST,
     "fouling-net-backprop.tex:57:20": _DELTA1_LOST,
-    "gripper-wrist-kinematics.tex:44:17": _INLINE_THEN_DISPLAY,
-    "gripper-wrist-kinematics.tex:37:21": _OMEGA_CYCLE,
-    "gripper-wrist-kinematics.tex:45:41": _OMEGA_CYCLE,
-    "hatch-gasket-strain-energy.tex:45:13": _INLINE_THEN_DISPLAY,
-    "hatch-gasket-strain-energy.tex:46:32": _E_KK,
-    "hatch-gasket-strain-energy.tex:45:77": _E_KK,
-    "hatch-gasket-strain-energy.tex:52:7": _E_KK,
-    "hatch-gasket-strain-energy.tex:56:7": _E_KK,
     "orchard-moisture-gp.tex:29:5": (
         "splitting: `\\quad\\text{by (2)}` before a relation on the next line ends the chain; the "
         "next `=` is a parse-error"
     ),
-    "plate-exchanger-adjoint.tex:19:8": _INLINE_THEN_DISPLAY,
-    "seed-catalogue-factors.md:8:11": _TWO_ARGS,
-    "seed-catalogue-factors.md:13:16": _TWO_ARGS_USE,
-    "seed-catalogue-factors.md:15:16": _TWO_ARGS_USE,
-    "seed-catalogue-factors.md:20:39": _TWO_ARGS_USE,
-    "seed-catalogue-factors.md:21:39": _TWO_ARGS_USE,
-    "seed-catalogue-factors.md:27:57": _TWO_ARGS_USE,
-    "signal-green-splits.md:40:32": _TWO_ARGS,
-    "signal-green-splits.md:44:34": _TWO_ARGS_USE,
     "terrace-yield-ridge.md:66:31": (
         "evaluator: `(X^T X)^{-1}` with X n x d is unsupported (singular draws) instead of trying "
         "sizes with n > d"
