@@ -6,6 +6,7 @@ from __future__ import annotations
 
 from context_helpers import document_context, plan_at
 
+from stepcheck import api
 from stepcheck.checks import messages as m
 from stepcheck.context.model import AssumptionKind as K
 from stepcheck.expressions import nodes as n
@@ -46,18 +47,107 @@ def test_nearest_preceding_definition_beats_a_following_one():
     assert plan_at(context, 14).defines is not None  # := defines even though f was defined before
 
 
-def test_a_display_definition_wins_over_an_inline_one():
+def test_a_display_definition_wins_over_an_inline_one_that_follows_it():
     text = (
-        "Here $s = 3 t$ in passing.\n"   # 1 (inline)
+        "$$\ns = t^2\n$$\n"              # 2 (display, first)
+        "\n"
+        "$$\nu = s + 1\n$$\n"            # 6
+        "\n"
+        "Here $s = 3 t$ in passing.\n"   # 9 (inline, later)
+    )
+    context = document_context(text)
+    assert context.plans[0].defines is not None
+    definition = plan_at(context, 6).context.definitions["s"]
+    assert definition.display is True and definition is context.plans[0].defines
+
+
+def test_a_display_chain_on_a_symbol_an_earlier_inline_line_defines_is_checked():
+    # SPEC §4 "no earlier line of the file defines": an inline where-clause is a line too
+    text = (
+        "Here $s = 3 t$ in passing.\n"   # 1 (inline, first)
         "\n"
         "$$\nu = s + 1\n$$\n"            # 4
         "\n"
-        "$$\ns = t^2\n$$\n"              # 8 (display)
+        "$$\ns = t + 2t\n$$\n"           # 8 (display, checked)
     )
     context = document_context(text)
-    definition = plan_at(context, 4).context.definitions["s"]
-    assert definition.display is True
-    assert context.plans[1].defines is not None
+    checked = plan_at(context, 8)
+    assert checked.defines is None
+    assert checked.context.definitions["s"].display is False
+    assert plan_at(context, 4).context.definitions["s"].display is False
+
+
+def test_a_self_referring_display_after_an_inline_definition_is_checked_and_holds():
+    # a gimbal's spin tensor: Omega_ij = -eps_ijk w_k is skew, so Omega_ji = -Omega_ij
+    # (textbook: the Levi-Civita symbol is antisymmetric in every pair of indices)
+    text = (
+        "$\\mathbf{w} \\in \\mathbb{R}^{3}$, with $\\Omega_{ij} = -\\varepsilon_{ijk} w_k$,\n"
+        "\\[ \\Omega_{ji} = -\\Omega_{ij} \\]\n"
+        "\\[ \\Omega_{ij} w_j = 0 \\]\n"
+    )
+    context = document_context(text, "tex")
+    assert [p.defines for p in context.plans] == [None, None]
+    assert all(not p.findings for p in context.plans)
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.HOLDS, Verdict.HOLDS]
+
+
+def test_a_first_display_that_mentions_its_own_left_symbol_is_not_a_definition():
+    plan = document_context("$$\nq_{ji} = q_{ij}\n$$\n").plans[0]
+    assert plan.defines is None
+
+
+def test_an_inverted_law_that_reaches_its_own_symbol_is_checked():
+    # a gasket's isotropic law and its inverse (textbook linear elasticity:
+    # eps_ij = (sigma_ij - lambda/(3 lambda + 2 mu) sigma_kk delta_ij) / (2 mu))
+    text = (
+        "$\\varepsilon, \\sigma \\in \\mathbb{S}^{3}$, $\\lambda, \\mu > 0$\n"
+        "\\[ \\sigma_{ij} = \\lambda\\delta_{ij}\\varepsilon_{kk} + 2\\mu\\varepsilon_{ij} \\]\n"
+        "\\[ \\varepsilon_{ij} = \\left(\\sigma_{ij} - \\frac{\\lambda}{3\\lambda+2\\mu}"
+        "\\sigma_{kk}\\delta_{ij}\\right)/(2\\mu) \\]\n"
+        "\\[ \\sigma_{kk} = (3\\lambda+2\\mu)\\varepsilon_{kk} \\]\n"
+    )
+    context = document_context(text, "tex")
+    law, inverse, trace = context.plans
+    assert law.defines is not None and law.defines.name == "\\sigma"
+    assert inverse.defines is None and trace.defines is None
+    assert not [f for p in context.plans for f in p.findings if isinstance(f, m.DefinitionCycle)]
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.DEFINES, Verdict.HOLDS, Verdict.HOLDS]
+
+
+def test_a_left_side_with_a_repeated_index_is_a_contraction_not_a_definition():
+    # a seal's deviatoric strain is traceless in three dimensions (textbook identity)
+    text = (
+        "$A \\in \\mathbb{R}^{3\\times 3}$\n"
+        "Let $e_{ij} = A_{ij} - \\tfrac13 A_{kk}\\delta_{ij}$.\n"
+        "\\[ e_{kk} = 0 \\]\n"
+        "\\[ e_{ij}e_{ij} = A_{ij}A_{ij} - \\tfrac13 A_{kk}A_{ll} \\]\n"
+    )
+    context = document_context(text, "tex")
+    assert [p.defines for p in context.plans] == [None, None]
+    assert context.plans[0].context.definitions["e"].indices == ("i", "j")
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.HOLDS, Verdict.HOLDS]
+
+
+def test_a_definition_keeps_its_own_rows_no_sum_mark():
+    text = (
+        "$$\nq_j = (1 - a_j)\\sum_{i} W_{ij} d_i \\quad\\text{(no sum)}\n$$\n"
+        "\n"
+        "$$\nr_j = a_j d_j\n$$\n"
+    )
+    context = document_context(text)
+    first, second = context.plans
+    assert first.defines is not None and first.defines.no_sum is True
+    assert first.findings == ()  # read elementwise: j is free in both factors
+    assert second.defines is not None and second.defines.no_sum is False
+
+
+def test_summation_explicit_in_force_marks_a_definition_no_sum():
+    text = "<!-- stepcheck: summation explicit -->\n\n$$\nu_k = a_k b_k\n$$\n"
+    plan = document_context(text).plans[0]
+    assert plan.defines is not None and plan.defines.no_sum is True
 
 
 def test_an_inline_dimension_letter_set_to_a_number_fixes_a_size():
@@ -124,13 +214,22 @@ def test_equiv_with_a_bare_symbol_defines():
 
 
 def test_a_cycle_of_definitions_is_unsupported_naming_the_symbols():
-    text = "$$\na = b + 1\n$$\n\n$$\nb = a - 1\n$$\n\n$$\na + b = 2 b + 1\n$$\n"
+    # stated with :=, both are definitions whatever they mention (an implicit second
+    # definition reaching the first would be checked instead, see the inverted law above)
+    text = "$$\na := b + 1\n$$\n\n$$\nb := a - 1\n$$\n\n$$\na + b = 2 b + 1\n$$\n"
     context = document_context(text)
     last = context.plans[-1]
     cycles = [f for f in last.findings if isinstance(f, m.DefinitionCycle)]
     assert cycles and cycles[0].verdict is Verdict.UNSUPPORTED
     assert cycles[0].message == "the definitions form a cycle (a → b → a), so the step cannot be expanded"
     assert all(not isinstance(f, m.DefinitionCycle) for p in context.plans[:2] for f in p.findings)
+
+
+def test_a_later_plain_chain_that_closes_a_cycle_is_checked():
+    text = "$$\na = b + 1\n$$\n\n$$\nb = a - 1\n$$\n\n$$\na + b = 2 b + 1\n$$\n"
+    context = document_context(text)
+    assert context.plans[0].defines is not None and context.plans[1].defines is None
+    assert not [f for p in context.plans for f in p.findings if isinstance(f, m.DefinitionCycle)]
 
 
 def test_a_defined_symbol_has_its_bodys_shape():
@@ -151,3 +250,38 @@ def test_a_definition_that_contradicts_a_declaration_names_both_lines():
     plan = document_context(text).plans[0]
     assert [type(f) for f in plan.findings] == [m.ShapeConflict]
     assert plan.findings[0].message == "X is n×d on line 1 but d×n on line 4"
+
+
+# --------------------------------------------------------------------------- several arguments
+
+
+def test_a_definition_with_two_arguments_makes_a_function_of_two_arguments():
+    # a drying-kiln cost f(a, b) = a b; d f / d a = b (sympy.diff(a*b, a) == b)
+    text = "\\[ f(a, b) = a\\,b \\]\n\\[ \\frac{\\partial f}{\\partial a} = b \\]\n"
+    context = document_context(text, "tex")
+    first, second = context.plans
+    assert first.parse_error is None and first.defines is not None
+    assert (first.defines.name, [p.name for p in first.defines.params]) == ("f", ["a", "b"])
+    assert "f" in second.context.vocabulary.functions
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.DEFINES, Verdict.HOLDS]
+
+
+def test_a_two_argument_definition_of_matrices_is_applied_later():
+    # a plate-stack fit J(U, V) = tr(U^T V); the gradient in U is V (The Matrix Cookbook,
+    # Sec. 2.5.1: d tr(X^T A)/dX = A; equation number not recalled)
+    text = (
+        "$U, V \\in \\mathbb{R}^{m\\times r}$\n"
+        "\\[ J(U, V) = \\operatorname{tr}(U^\\top V) \\]\n"
+        "\\[ \\nabla_{U} J(U, V) = V \\]\n"
+    )
+    context = document_context(text, "tex")
+    applied = [x for x in context.plans[1].lhs.walk() if isinstance(x, n.Apply) and x.func == "J"]
+    assert applied and len(applied[0].args) == 2
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.DEFINES, Verdict.HOLDS]
+
+
+def test_a_bracket_form_needs_plain_symbols_as_arguments():
+    plan = document_context("$$\ng(x \\pm y) = x\n$$\n").plans[0]
+    assert plan.defines is None and plan.parse_error is not None

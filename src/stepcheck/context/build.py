@@ -28,7 +28,7 @@ from ..verdicts import RelationKind
 from . import definitions as defs
 from .declarations import RowFacts, assumption_of, assumption_table, read_rows, set_letters
 from .inference import Inference, Unit, infer_shapes
-from .model import Assumption, AssumptionKind, Definition, StepContext, StepOptions, Vocabulary
+from .model import Assumption, AssumptionKind, Definition, StepContext, StepOptions, Summation, Vocabulary
 from .options import OptionTimeline, directive_vocabulary, index_like_letters, inline_sizes, sum_limit_letters, with_options
 
 logger = logging.getLogger(__name__)
@@ -160,40 +160,56 @@ def _key(chain: Chain, index: int) -> StepKey:
 
 
 def _collect_definitions(read: Sequence[ReadChain]) -> dict[StepKey, Definition]:
-    """Every definition of the document, by the step that states it (SPEC §4)."""
+    """Every definition of the document, by the step that states it (SPEC §4).
+
+    The chains are visited in document order, so "defined by an earlier line" and
+    "reaches itself through the definitions already made" only look back.
+    """
     found: dict[StepKey, Definition] = {}
-    defined_by_display: set[str] = set()
+    latest: dict[str, Definition] = {}
+    """Each name's most recent definition so far (display or inline)."""
     for item in read:
         chain = item.chain
         reader = _reader(item.vocabulary)
         for index in range(1, len(chain.sides)):
             lhs, rhs = item.trees[index - 1], item.trees[index]
-            if lhs is None or rhs is None:
+            if rhs is None:
                 continue
-            form = defs.definition_form(lhs, chain.sides[index - 1], chain.source, reader)
-            if form is None or not _is_definition(item, index, form, lhs, rhs, defined_by_display):
+            side = chain.sides[index - 1]
+            if lhs is not None:
+                form = defs.definition_form(lhs, side, chain.source, reader)
+            elif index == 1:
+                form = defs.bracket_form(side, chain.source, reader)  # f(a, b) before f is known
+            else:
+                form = None
+            if form is None or not _is_definition(item, index, form, lhs, rhs, latest):
                 continue
-            found[_key(chain, index)] = Definition(
+            no_sum = chain.no_sum or item.options.summation is Summation.EXPLICIT
+            definition = Definition(
                 form.name, form.indices, form.params, rhs, chain.source,
-                chain.sides[index - 1].span, chain.order, item.display,
+                side.span, chain.order, item.display, no_sum,
             )
-            if item.display:
-                defined_by_display.add(form.name)
+            found[_key(chain, index)] = definition
+            latest[form.name] = definition
     return found
 
 
-def _is_definition(item: ReadChain, index: int, form: defs.Form, lhs: Node, rhs: Node, defined: set[str]) -> bool:
+def _is_definition(
+    item: ReadChain, index: int, form: defs.Form, lhs: Node | None, rhs: Node, earlier: Mapping[str, Definition]
+) -> bool:
     relation = item.chain.relations[index - 1]
-    stated = assumption_of(lhs, rhs, relation.text)
+    stated = assumption_of(lhs, rhs, relation.text) if lhs is not None else None
     if stated is not None and stated[1] is not AssumptionKind.DIAGONAL:
         return False  # A = A^\top states a property; it defines nothing
     if defs.defines_by_relation(relation.kind, form):
         return True
     if index != 1 or relation.kind is not RelationKind.EQUAL:
         return False
+    if defs.reaches(form.name, rhs, earlier):
+        return False  # \Omega_{ji} = -\Omega_{ij}, or an inverted law: a claim to check
     if not item.display:
         return not (form.name in item.vocabulary.dimensions and defs.is_bare(form))  # d = 3 fixes a size
-    return form.name not in defined
+    return form.name not in earlier  # an earlier line (display or inline) defines it: checked
 
 
 def _taught(vocabulary: Vocabulary, definitions: Sequence[Definition]) -> Vocabulary:

@@ -2,11 +2,16 @@
 
 A step defines a symbol when its relation is a definition relation (``:=``,
 ``\\triangleq`` …, ``\\equiv`` with a bare symbol on the left), or when it is the first
-step of a chain whose left side is a bare symbol — optionally with index subscripts
-(``b_i``) or an argument list (``L(\\mathbf{w})``) — that no earlier display defines.
-Inline math of that form ("where …") defines too; a display definition of the same
-symbol wins over inline ones.  Definitions are collected over the whole file first; a
-use takes the nearest preceding definition, else the nearest following one.
+step of a chain whose left side is a bare symbol — optionally with distinct index
+subscripts (``b_i``; ``e_{kk}`` is a trace, not a definition) or an argument list
+(``L(\\mathbf{w})``, ``f(a, b)``) — that no earlier line (display or inline) defines.
+Such a chain is checked instead when its right side mentions its own left symbol
+(``\\Omega_{ji} = -\\Omega_{ij}``) or reaches it through the definitions already made
+(an inverted constitutive law after the law itself).  Inline math of that form
+("where …") defines too; a display definition of the same symbol wins over an inline
+one that follows it, and when uses are resolved.  Definitions are collected over the
+whole file first; a use takes the nearest preceding definition, else the nearest
+following one.
 """
 
 from __future__ import annotations
@@ -83,9 +88,10 @@ def _bracket_split(tokens: Sequence[Token]) -> tuple[list[Token], list[list[Toke
 def definition_form(tree: n.Node, side: Side, source: SourceText, read: Reader) -> Form | None:
     """The defined symbol of a left side, or None when the side is not of a definition's form."""
     if isinstance(tree, n.Symbol):
-        if all(isinstance(s, n.Index) for s in tree.subs):
-            return Form(tree.name, tuple(s.name for s in tree.subs), ())
-        return None
+        names = [s.name for s in tree.subs if isinstance(s, n.Index)]
+        if len(names) == len(tree.subs) and len(set(names)) == len(names):
+            return Form(tree.name, tuple(names), ())
+        return None  # a fixed component (x_1) or a contraction (e_{kk}): checked, not defined
     name = symbol_name(tree)
     if name is not None:
         return Form(name, (), ())
@@ -94,10 +100,16 @@ def definition_form(tree: n.Node, side: Side, source: SourceText, read: Reader) 
         if all(isinstance(p, n.Symbol) for p in params):
             return Form(tree.func, (), params)
         return None
-    return _bracket_form(side, source, read)
+    return bracket_form(side, source, read)
 
 
-def _bracket_form(side: Side, source: SourceText, read: Reader) -> Form | None:
+def bracket_form(side: Side, source: SourceText, read: Reader) -> Form | None:
+    """``f(a, b)`` read on the side's tokens: the name and its parameters, or None.
+
+    The parser cannot read ``(a, b)`` as an expression until it knows that ``f`` is a
+    function, which only this definition teaches; so the pattern ``symbol ( args , … )``
+    is recognised here, each piece read on its own.
+    """
     split = _bracket_split(side.tokens)
     if split is None:
         return None
@@ -195,6 +207,21 @@ def find_cycle(roots: Iterable[str], definitions: Mapping[str, Definition]) -> l
         if cycle is not None:
             return cycle
     return None
+
+
+def reaches(name: str, body: n.Node, definitions: Mapping[str, Definition]) -> bool:
+    """Whether ``body`` mentions ``name``, directly or through ``definitions``."""
+    seen: set[str] = set()
+    stack = list(names_in(body))
+    while stack:
+        used = stack.pop()
+        if used == name:
+            return True
+        if used in seen or used not in definitions:
+            continue
+        seen.add(used)
+        stack.extend(names_in(definitions[used].body))
+    return False
 
 
 def defines_by_relation(kind: RelationKind, form: Form | None) -> bool:
