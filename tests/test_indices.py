@@ -44,6 +44,9 @@ PASSING = [
     ("function-of-contraction", r"h_i = \sigma(W_{ij} x_j)"),
     ("zero-right-side", r"\frac{\partial f}{\partial w_k} = 0"),
     ("term-constant-along-bound-index", r"\sum_{i} y_i (\delta_{ij} - p_j) = y_j - p_j"),
+    ("other-dummies-in-a-sum-factor", r"y_j = x_j (a_k b_k + c_m d_m)"),
+    ("bound-index-reused-in-a-sum-factor", r"s = \sum_j x_j (1 - y_j y_j)"),
+    ("contraction-inside-a-function", r"q_j = x_j \exp(y_k y_k)"),
 ]
 
 
@@ -69,6 +72,20 @@ FAILING = [
      "free indices differ: left {j}, right {k}"),
     ("dropped-index", r"y_i = X_{ik} w_k b_j", m.IndexSidesDiffer, "free indices differ: left {i}, right {i, j}"),
     ("scalar-equals-vector", r"s = r_i", m.IndexSidesDiffer, "free indices differ: left none, right {i}"),
+    ("dummy-in-a-sum-factor", r"q_j = x_j\left(1 - y_j y_j\right)", m.IndexRepeatedInSum,
+     "index j appears 3 times in the term `x_j\\left(1 - y_j y_j\\right)` once its parenthesised "
+     "sum is multiplied out (column 7, right side)"),
+    ("dummy-in-a-product-factor", r"p_j = x_j\left(b_j c_j\right)", m.IndexRepeated,
+     "index j appears 3 times in the term `x_j\\left(b_j c_j\\right)` (column 7, right side)"),
+    ("trace-in-a-sum-factor", r"u_k = x_k (A_{kk} + 1)", m.IndexRepeatedInSum,
+     "index k appears 3 times in the term `x_k (A_{kk} + 1)` once its parenthesised sum is "
+     "multiplied out (column 7, right side)"),
+    ("dummy-in-two-sum-factors", r"c = (a_k b_k + 1)(c_k d_k + 1)", m.IndexRepeatedInSum,
+     "index k appears 4 times in the term `(a_k b_k + 1)(c_k d_k + 1)` once its parenthesised "
+     "sum is multiplied out (column 5, right side)"),
+    ("dummy-in-a-nested-sum", r"q_j = x_j (1 + z (2 - y_j y_j))", m.IndexRepeatedInSum,
+     "index j appears 3 times in the term `x_j (1 + z (2 - y_j y_j))` once its parenthesised "
+     "sum is multiplied out (column 7, right side)"),
 ]
 
 
@@ -173,6 +190,9 @@ def test_index_side_against_a_scalar_matrix_side_is_an_error():
 
 # --------------------------------------------------------------------------- against numpy.einsum
 
+import itertools  # noqa: E402
+from collections import Counter  # noqa: E402
+
 import numpy as np  # noqa: E402
 from hypothesis import given, settings  # noqa: E402
 from hypothesis import strategies as st  # noqa: E402
@@ -213,3 +233,42 @@ def test_free_indices_of_a_product_match_numpy_einsum(factors):
     expected = sorted(c for c in LETTERS if sum(letters.count(c) for _, letters in factors) == 1)
     assert sorted(o.name for o in found.free) == expected
     assert np.ndim(result) == len(expected)
+
+
+# --------------------------------------------------------------------------- sums as factors
+
+
+@st.composite
+def products_with_sum_factors(draw):
+    """Single-index tensors (x_a …) and parenthesised sums whose terms are ``1`` or fully
+    contracted pairs (``u_a v_a``, ``u_a v_a w_b z_b``), so every sum has no free index."""
+    singles = draw(st.lists(st.sampled_from("ijk"), max_size=3))
+    sums = draw(st.lists(st.lists(st.lists(st.sampled_from("ijk"), min_size=0, max_size=2), min_size=1, max_size=2),
+                         min_size=1, max_size=2))
+    return singles, sums
+
+
+def _sum_latex(terms: list[list[str]]) -> str:
+    parts = ["1"]
+    for pairs in terms:
+        if pairs:
+            parts.append(" ".join(f"u_{a} v_{a}" for a in pairs))
+    return "(" + " + ".join(parts) + ")"
+
+
+@settings(max_examples=60, deadline=None)
+@given(products_with_sum_factors())
+def test_a_product_with_sum_factors_errs_exactly_when_a_multiplied_out_term_repeats_an_index(case):
+    # Oracle: multiply every parenthesised sum out by brute force and count each index in
+    # each resulting product term; three or more is the error (common practice: the
+    # summation convention applies to the expanded terms).
+    singles, sums = case
+    latex = " ".join([f"x_{a}" for a in singles] + [_sum_latex(terms) for terms in sums])
+    node, source = read_expression(latex)
+    found = read_side(node, source, "left", step_context())
+    options = [[[]] + [[a for a in pairs for _ in range(2)] for pairs in terms if pairs] for terms in sums]
+    expected_error = any(
+        max(Counter(singles + [a for chosen in choice for a in chosen]).values(), default=0) >= 3
+        for choice in itertools.product(*options)
+    )
+    assert bool(found.errors) == expected_error, (latex, [e.message for e in found.errors])

@@ -5,7 +5,10 @@ juxtaposition, ``\\cdot``, ``\\times`` or a fraction, nested products flattened)
 the occurrences of each index among its factors: once is free, twice is summed, three
 times or more is an ``index-error`` (common practice).  A tensor's own subscripts are
 occurrences (``X_{ii}`` sums, a trace); a compound factor (a sum, a function, a power, a
-derivative) contributes its free indices once each.  Every additive term and both sides
+derivative) contributes its free indices once each.  A parenthesised sum among the
+factors (not in a denominator) also brings the indices summed inside its terms, twice
+each, because multiplying it out puts them in one term with the other factors:
+``x_j(1 - y_j y_j)`` has a term ``x_j y_j y_j`` (common practice).  Every additive term and both sides
 must carry the same free set; a purely numeric term (``1 - p_i``) is constant along every
 index.  ``\\sum`` binds its indices, which may then occur any number of times in the
 summand and must occur at least once.  A derivative's denominator indices are free in the
@@ -21,6 +24,7 @@ upper-index component gives a lower index and vice versa.
 from __future__ import annotations
 
 import dataclasses
+from collections import Counter
 from dataclasses import dataclass
 from typing import Callable, Sequence
 
@@ -65,6 +69,9 @@ class IndexReader:
         self.errors: list[Diagnostic] = []
         self.classes: list[IndexClass] = []
         self._bound: list[frozenset[str]] = []
+        self._dummies: dict[int, frozenset[str]] = {}
+        """``id`` of a product term, sum or ``\\sum`` → the indices summed inside it (Einstein
+        pairs), which a product around a parenthesised sum counts again."""
         self._handlers: dict[type, Callable[[n.Node], list[Occurrence]]] = {
             n.Symbol: self._leaf, n.Delta: self._leaf, n.LeviCivita: self._leaf,
             n.Component: self._leaf, n.Mul: self._product, n.Dot: self._product,
@@ -100,37 +107,55 @@ class IndexReader:
             return self.free(node.operand) + own
         return self.free(node)
 
-    def _factors(self, node: n.Node) -> list[n.Node]:
+    def _factors(self, node: n.Node, below: bool = False) -> list[tuple[n.Node, bool]]:
+        """The factors of a product term, each with whether it stands in a denominator."""
         if isinstance(node, n.Mul):
-            return [f for factor in node.factors for f in self._factors(factor)]
+            return [f for factor in node.factors for f in self._factors(factor, below)]
         if isinstance(node, (n.Dot, n.Cross)):
-            return self._factors(node.left) + self._factors(node.right)
+            return self._factors(node.left, below) + self._factors(node.right, below)
         if isinstance(node, n.Div):
-            return self._factors(node.numerator) + self._factors(node.denominator)
+            return self._factors(node.numerator, below) + self._factors(node.denominator, True)
         if isinstance(node, n.Neg):
-            return self._factors(node.operand)
-        return [node]
+            return self._factors(node.operand, below)
+        return [(node, below)]
+
+    def _carried(self, factor: n.Node, below: bool) -> list[str]:
+        """The summed indices a parenthesised sum (or ``\\sum``) factor brings into the
+        product around it, twice each; none from a denominator."""
+        if below or not isinstance(factor, (n.Add, n.BigOp)):
+            return []
+        return [name for name in sorted(self._dummies.get(id(factor), ())) for _ in range(2)]
 
     # ------------------------------------------------------------------ the term rule
 
-    def _term(self, occurrences: Sequence[Occurrence], span: Span) -> list[Occurrence]:
-        """Count the occurrences of one product term and return its free indices."""
+    def _term(self, occurrences: Sequence[Occurrence], node: n.Node, carried: Sequence[str] = ()) -> list[Occurrence]:
+        """Count the occurrences of one product term and return its free indices.
+
+        :param carried: indices summed inside a parenthesised sum among the factors.
+        """
+        span = node.span
         groups: dict[str, list[Occurrence]] = {}
         for occ in occurrences:
             groups.setdefault(occ.name, []).append(occ)
+        extra = Counter(carried)
         free: list[Occurrence] = []
-        for name, group in groups.items():
-            if self._is_bound(name):
-                free.append(group[0])
-                self.classes.extend(IndexClass(name, "bound", o.span) for o in group)
-            elif len(group) == 1 or self.explicit:
-                free.append(group[0])
-                self.classes.extend(IndexClass(name, "free", o.span) for o in group)
-            elif len(group) == 2:
-                self._pair(name, group, span)
+        summed: set[str] = set()
+        for name in dict.fromkeys([*groups, *extra]):
+            group = groups.get(name, [])
+            count = len(group) + extra[name]
+            if self._is_bound(name) or self.explicit or count == 1:
+                if group:
+                    free.append(group[0])
+                    kind = "bound" if self._is_bound(name) else "free"
+                    self.classes.extend(IndexClass(name, kind, o.span) for o in group)
+            elif count == 2:
+                summed.add(name)
+                if len(group) == 2:
+                    self._pair(name, group, span)
             else:
-                self._error(m.IndexRepeated, span, name, len(group))
+                self._error(m.IndexRepeatedInSum if extra[name] else m.IndexRepeated, span, name, count)
                 self.classes.extend(IndexClass(name, "error", o.span) for o in group)
+        self._dummies[id(node)] = frozenset(summed)
         return free
 
     def _pair(self, name: str, group: list[Occurrence], span: Span) -> None:
@@ -148,11 +173,15 @@ class IndexReader:
     # ------------------------------------------------------------------ node kinds
 
     def _leaf(self, node: n.Node) -> list[Occurrence]:
-        return self._term(self._raw(node), node.span)
+        return self._term(self._raw(node), node)
 
     def _product(self, node: n.Node) -> list[Occurrence]:
-        occurrences = [occ for factor in self._factors(node) for occ in self._raw(factor)]
-        return self._term(occurrences, node.span)
+        occurrences: list[Occurrence] = []
+        carried: list[str] = []
+        for factor, below in self._factors(node):
+            occurrences.extend(self._raw(factor))
+            carried.extend(self._carried(factor, below))
+        return self._term(occurrences, node, carried)
 
     def _elementwise(self, node: n.Node) -> list[Occurrence]:
         """Functions, powers, norms, transposes, Hadamard …: the union of the parts' free
@@ -169,8 +198,10 @@ class IndexReader:
         assert isinstance(node, n.Add)
         first: tuple[n.Node, list[Occurrence]] | None = None
         union: dict[str, Occurrence] = {}
+        dummies: set[str] = set()
         for term in node.terms:
             free = self.free(term)
+            dummies |= self._dummies.get(id(term), frozenset())
             for occ in free:
                 union.setdefault(occ.name, occ)
             if is_constant(term) or self.explicit:
@@ -179,6 +210,7 @@ class IndexReader:
                 first = (term, free)
             else:
                 self._compare_terms(first, (term, free))
+        self._dummies[id(node)] = frozenset(dummies)
         if self.explicit or first is None:
             return list(union.values())
         bound = [o for o in union.values() if self._is_bound(o.name) and o not in first[1]]
@@ -218,6 +250,7 @@ class IndexReader:
             body = self.free(node.body)
         finally:
             self._bound.pop()
+        self._dummies[id(node)] = self._dummies.get(id(node.body), frozenset()) - bound
         present = {o.name for o in body}
         for binding in node.bindings:
             if binding.index not in present:
@@ -231,7 +264,7 @@ class IndexReader:
         occurrences = list(self.free(node.expr))
         for variable in node.wrt:
             occurrences.extend(self._denominator(variable))
-        return self._term(occurrences, node.span)
+        return self._term(occurrences, node)
 
     def _gradient(self, node: n.Node) -> list[Occurrence]:
         assert isinstance(node, n.Gradient)
@@ -239,7 +272,7 @@ class IndexReader:
         if node.wrt is not None:
             for _ in range(node.order):
                 occurrences.extend(self._denominator(node.wrt))
-        return self._term(occurrences, node.span)
+        return self._term(occurrences, node)
 
     def _denominator(self, variable: n.Variable) -> list[Occurrence]:
         """A variable's index subscripts, at the opposite height in up-down mode."""

@@ -26,6 +26,16 @@ class IndexRepeated(IndexError_):
     template = "index {0} appears {1} times in the term `{2}` (column {3}, {4} side)"
 
 
+class IndexRepeatedInSum(IndexError_):
+    """An index summed inside a parenthesised sum that is also used by the product around
+    it: multiplied out, one term has it three times or more (args: as :class:`IndexRepeated`)."""
+
+    template = (
+        "index {0} appears {1} times in the term `{2}` once its parenthesised sum is "
+        "multiplied out (column {3}, {4} side)"
+    )
+
+
 class IndexSameHeight(IndexError_):
     """Up-down mode: a summed pair written at one height (args: index, height, term, column, side)."""
 
@@ -151,7 +161,7 @@ class DefinitionCycle(Unsupported):
 MESSAGES: dict[str, type[Diagnostic]] = {
     cls.__name__: cls
     for cls in (
-        IndexRepeated, IndexSameHeight, IndexTermsDiffer, IndexTermHeights, IndexSidesDiffer,
+        IndexRepeated, IndexRepeatedInSum, IndexSameHeight, IndexTermsDiffer, IndexTermHeights, IndexSidesDiffer,
         IndexSideHeights, IndexSumUnused, ShapeMultiply, ShapeAdd,
         ShapeScalarAdd, ShapeElementwise, ShapeOperand, ShapeSides, ShapeRank,
         ShapeIndexRange, ShapeConflict, ShapeAssumption, DefinitionCycle,
