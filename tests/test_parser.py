@@ -177,6 +177,78 @@ def test_spans_are_file_offsets_and_errors_carry_line_and_column() -> None:
     assert node.span.start == start
 
 
+# --------------------------------------------------------------------------- labels and marks
+
+#: A label and a mark in one superscript read as the mark on the labelled symbol written
+#: with its own parentheses or braces (rule ``label-then-mark``; field report P1).
+LABEL_THEN_MARK = [
+    ("transpose", r"W^{(2)\top}\mathbf{d}", r"(W^{(2)})^\top \mathbf{d}"),
+    ("letter-T", r"W^{(l)T}", r"(W^{(l)})^T"),
+    ("sans-serif-T", r"W^{(2)\mathsf{T}}", r"{W^{(2)}}^{\mathsf{T}}"),
+    ("vector-row", r"h^{(1)\top}", r"(h^{(1)})^\top"),
+    ("inverse", r"W^{(2)-1}", r"(W^{(2)})^{-1}"),
+    ("inverse-transpose", r"W^{(2)-\top}", r"(W^{(2)})^{-\top}"),
+    ("square", r"W^{(2)2}", r"(W^{(2)})^2"),
+    ("square-with-index", r"h^{(1)2}_j", r"(h^{(1)}_j)^2"),
+]
+
+
+def _bare(node: n.Node) -> str:
+    """A tree's outline (spans are not part of it)."""
+    return n.outline(node)
+
+
+@pytest.mark.parametrize(("joined", "separate"), [c[1:] for c in LABEL_THEN_MARK], ids=[c[0] for c in LABEL_THEN_MARK])
+def test_label_and_mark_in_one_superscript_read_as_the_mark_on_the_labelled_symbol(joined: str, separate: str) -> None:
+    assert _bare(parse_latex(joined)) == _bare(parse_latex(separate))
+
+
+def test_label_then_transpose_span_covers_the_whole_superscript() -> None:
+    text = r"W^{(2)\top}\mathbf{d}"
+    root = parse_latex(text)
+    assert isinstance(root, n.Mul)
+    transpose = root.factors[0]
+    assert isinstance(transpose, n.Transpose) and isinstance(transpose.operand, n.Symbol)
+    assert text[transpose.span.start : transpose.span.end] == r"W^{(2)\top}"
+    assert text[transpose.operand.span.start : transpose.operand.span.end] == r"W^{(2)"
+
+
+# --------------------------------------------------------------------------- one position format
+
+#: Any other way of naming a place: a line number, an offset, "at column" without a number.
+_OTHER_POSITION = re.compile(r"\bline \d|\boffset \d|\bat (?!column \d)(?:line|column|offset)\b")
+
+
+@pytest.mark.parametrize(
+    ("title", "text", "expected"), [c for c in ALL_CASES if c[2].startswith("error: ")],
+    ids=[c[0] for c in ALL_CASES if c[2].startswith("error: ")],
+)
+def test_every_error_names_its_place_as_at_column_n(title: str, text: str, expected: str) -> None:
+    """Every reader message names positions one way, ``at column N`` (field report §4)."""
+    with pytest.raises(ParseError) as caught:
+        parse_latex(text, vocabulary_of(title))
+    message = caught.value.message
+    assert re.search(r"\bat column \d+", message), message
+    assert not _OTHER_POSITION.search(message), message
+
+
+def test_an_error_in_a_side_over_two_lines_says_at_column_n_of_its_own_line() -> None:
+    # GIVEN a side that runs over two lines of a file, with an unread token on the second
+    doc = "\\begin{equation}\n  y = a\n    + W^{2\\top} b\n\\end{equation}\n"
+    source = SourceText("notes/duct.tex", doc)
+    start = doc.index("a\n")
+    end = doc.index(" b\n") + 2
+    tokens = tokenize(doc[start:end], start, source)
+    # WHEN the side is read
+    with pytest.raises(ParseError) as caught:
+        parse_side(tokens, Vocabulary(), source)
+    # THEN the message says "at column N" (N on the token's own line), never "line L, column C",
+    # and the error's location names line 3
+    assert caught.value.message.startswith("'\\top' at column 11 is a transpose mark")
+    assert str(caught.value).startswith("notes/duct.tex:3:11: ")
+    assert "line" not in caught.value.message
+
+
 def test_matrix_literal_keeps_its_rows() -> None:
     node = parse_latex(r"\begin{bmatrix} 1 & x \\ y & 2 \\ 3 & z \end{bmatrix}")
     assert isinstance(node, n.MatrixLiteral)

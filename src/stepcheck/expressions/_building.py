@@ -34,6 +34,7 @@ class SymbolBuilding:
     note: Callable[[str, Span, str], None]
     sub_entries: Callable[..., list[Entry] | None]
     sup_kind: Callable[[Script], tuple[str, str | None]]
+    split_label: Callable[[Script], tuple[str, Script] | None]
     apply_sup: Callable[[n.Node, Script, str, Span], n.Node]
 
     def build_symbol(self, base: Base, scripts: Scripts, start: int) -> n.Node:
@@ -59,6 +60,12 @@ class SymbolBuilding:
                     else:
                         labels.append(entry.label or "")
                 continue
+            split = self.split_label(item)
+            if split is not None:
+                sup_label, rest = split
+                symbol_span = symbol_span.join(self.s.tokens[item.start - 1].span).join(self.s.tokens[rest.start - 1].span)
+                self.note("label-then-mark", item.span, f"^{{{sup_label}}} is part of the name; the rest applies to the labelled symbol")
+                item = rest
             kind, label = self.sup_kind(item)
             if kind == "label":
                 if sup_label is not None:

@@ -157,15 +157,14 @@ class Stream:
     # ----------------------------------------------------------------- errors
 
     def where(self, span: Span) -> str:
-        """``column N`` (with the line when the side spans several lines)."""
+        """``column N``: the one position format of every reader message.  The column is
+        counted on the token's own line; the line is the error's (``path:line:col``).
+
+        Without a source (no columns known) it is ``offset N``.
+        """
         if self.source is None:
             return f"offset {span.start}"
-        pos = self.source.position(span.start)
-        if self.tokens and self.source.position(self.tokens[0].span.start).line != self.source.position(
-            self.tokens[-1].span.start
-        ).line:
-            return f"line {pos.line}, column {pos.column}"
-        return f"column {pos.column}"
+        return f"column {self.source.position(span.start).column}"
 
     def error(self, message: str, span: Span) -> ParseError:
         """A :class:`ParseError` at ``span``."""

@@ -31,6 +31,7 @@ from .vocabulary import (
     NAMED_FONTS,
     OPERATOR_NAMES,
     PLAIN_FONTS,
+    AFTER_LABEL,
     SUPERSCRIPT_MARKS,
     TEXT_FONTS,
     is_index_name,
@@ -105,6 +106,7 @@ class SymbolReading:
     s: Stream
     vocab: Vocabulary
     bold: int
+    exponents: int
     expression: Callable[[], n.Node]
     note: Callable[[str, Span, str], None]
     enter: Callable[[Token | None], None]
@@ -431,10 +433,7 @@ class SymbolReading:
         """What a superscript is: ``transpose``, ``inverse-transpose``, ``label``, ``prime``,
         ``prime2`` or ``power`` (with the label text for ``label``)."""
         toks = self.s.tokens[script.start : script.end]
-        key = tuple(t.text for t in toks if t.kind not in (TokenKind.OPEN, TokenKind.CLOSE, TokenKind.TEXT)) + tuple(
-            t.text.strip() for t in toks if t.kind is TokenKind.TEXT
-        )
-        mark = SUPERSCRIPT_MARKS.get(key)
+        mark = SUPERSCRIPT_MARKS.get(_mark_key(toks))
         if mark == "unsupported":
             raise self.s.error(
                 f"the superscript '{self.s.text_of(script.span)}' at {self.s.where(script.span)} is not read "
@@ -448,11 +447,49 @@ class SymbolReading:
         label = _parenthesised_label(toks)
         if label is not None:
             return "label", label
+        split = self.split_label(script)
+        if split is not None:  # on a symbol the builder splits it; on anything else it is a name
+            return "label", split[0]
         return "power", None
+
+    def split_label(self, script: Script) -> tuple[str, Script] | None:
+        """Rule ``label-then-mark``: ``^{(2)\\top}`` → the label ``(2)`` and the rest ``\\top``.
+
+        :returns: the label text and the rest as a script of its own, when the superscript is a
+            parenthesised label followed by a transpose, inverse-transpose, prime, whole-number
+            power or negative whole-number power; else None (the superscript is read whole).
+        :raises ParseError: a one-name label (``(2)``, ``(l)``) followed by anything else
+            (``^{(2)k}``), which neither reading covers.
+        """
+        toks = self.s.tokens
+        if script.end - script.start < 4 or not toks[script.start].is_symbol("("):
+            return None
+        close = next((k for k in range(script.start, script.end) if toks[k].is_symbol(")")), None)
+        if close is None or close + 1 >= script.end:
+            return None
+        label = _parenthesised_label(toks[script.start : close + 1])
+        if label is None:
+            return None
+        rest = Script(script.mark, close + 1, script.end, Span(toks[close + 1].span.start, script.span.end))
+        rest_toks = toks[rest.start : rest.end]
+        if _mark_key(rest_toks) in _MARKS_AFTER_LABEL or _whole_power(rest_toks):
+            return label, rest
+        if any(t.is_symbol("+", "-") for t in toks[script.start : close]):
+            return None  # an exponent such as (a+b)t
+        first = rest_toks[0]
+        raise self.s.error(
+            f"{_describe(first)} at {self.s.where(first.span)} follows the label '{label}' in the superscript "
+            f"'{self.s.text_of(script.span)}': {AFTER_LABEL}",
+            first.span,
+        )
 
     def exponent(self, script: Script) -> n.Node:
         """The exponent of a power; ``-1`` folds to the number -1 (``A^{-1}``)."""
-        node = self.region(script.start, script.end, self.expression)
+        self.exponents += 1
+        try:
+            node = self.region(script.start, script.end, self.expression)
+        finally:
+            self.exponents -= 1
         if isinstance(node, n.Neg) and isinstance(node.operand, n.Number):
             num = node.operand
             return n.Number(-num.value, "-" + num.text, node.span)
@@ -507,6 +544,26 @@ def _merge_letter_labels(entries: list[Entry]) -> list[Entry]:
 
 
 _LABEL_TOKENS = (TokenKind.LETTER, TokenKind.NUMBER)
+
+#: What may follow a label in one superscript (rule ``label-then-mark``), besides a power.
+_MARKS_AFTER_LABEL = frozenset(
+    key for key, mark in SUPERSCRIPT_MARKS.items() if mark in ("transpose", "inverse-transpose", "prime", "prime2")
+)
+
+
+def _mark_key(toks: list[Token]) -> tuple[str, ...]:
+    """A superscript's content as a :data:`SUPERSCRIPT_MARKS` key (braces dropped, text stripped)."""
+    return tuple(t.text for t in toks if t.kind not in (TokenKind.OPEN, TokenKind.CLOSE, TokenKind.TEXT)) + tuple(
+        t.text.strip() for t in toks if t.kind is TokenKind.TEXT
+    )
+
+
+def _whole_power(toks: list[Token]) -> bool:
+    """``2``, ``12``, ``-1``, ``{-2}``: a whole-number exponent (after a label)."""
+    inner = [t for t in toks if t.kind not in (TokenKind.OPEN, TokenKind.CLOSE)]
+    if inner and inner[0].is_symbol("-"):
+        inner = inner[1:]
+    return len(inner) == 1 and inner[0].kind is TokenKind.NUMBER and inner[0].text.isdigit() and int(inner[0].text) > 0
 
 
 def _parenthesised_label(toks: list[Token]) -> str | None:

@@ -54,6 +54,8 @@ from .vocabulary import (
     PRODUCT_OPERATORS,
     RELATION_TEXTS,
     SLASH_OPERATORS,
+    SUPERSCRIPT_FORMS,
+    SUPERSCRIPT_ONLY,
     UNSUPPORTED,
     UNSUPPORTED_NAMES,
 )
@@ -193,6 +195,8 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
         self.bold = 0
         self.open_bar: str | None = None
         """The kind of the innermost open bar (``abs``/``norm``), which a bar may close."""
+        self.exponents = 0
+        """How many power exponents the cursor is inside (for error messages)."""
         self.readings: list[Reading] = []
         for span in self.s.cuts:
             self.note("tex-argument", span, "one digit is the argument, as in TeX")
@@ -524,6 +528,13 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
             return getattr(self, method)()  # type: ignore[no-any-return]
         if tok.text in UNSUPPORTED:
             raise self.s.error(f"{UNSUPPORTED[tok.text]} (at {self.s.where(tok.span)})", tok.span)
+        if tok.text in SUPERSCRIPT_ONLY:
+            place = "inside the exponent of a power" if self.exponents else "outside a superscript"
+            raise self.s.error(
+                f"'{tok.text}' at {self.s.where(tok.span)} is {SUPERSCRIPT_ONLY[tok.text]}, not read {place}: "
+                f"{SUPERSCRIPT_FORMS}",
+                tok.span,
+            )
         if tok.text in RELATION_TEXTS or tok.text in CLOSERS or tok.text in PRODUCT_OPERATORS or tok.text in SLASH_OPERATORS:
             raise self.s.unexpected(tok, "an operand")
         raise self.s.error(

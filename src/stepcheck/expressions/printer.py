@@ -28,6 +28,7 @@ _LEVEL: dict[type[n.Node], int] = {
 }
 
 _WORD = re.compile(r"[A-Za-z0-9]+\Z")
+_WHOLE = re.compile(r"-?[0-9]+\Z")
 _LETTER = re.compile(r"[A-Za-z]\Z")
 _COMMAND = re.compile(r"\\[A-Za-z]+")
 
@@ -116,12 +117,27 @@ class _Printer:
         return f"\\frac{{{top}}}{{{bottom}}}"
 
     def _Pow(self, node: n.Pow) -> str:
-        return f"{self._base(node.base)}^{{{self.show(node.exponent)}}}"
+        exponent = node.exponent
+        if isinstance(exponent, n.Number) and _WHOLE.match(exponent.text) and exponent.value != 0:
+            labelled = self._after_label(node.base, exponent.text)
+            if labelled is not None:
+                return labelled
+        return f"{self._base(node.base)}^{{{self.show(exponent)}}}"
 
     def _Transpose(self, node: n.Transpose) -> str:
         if isinstance(node.operand, n.Pow) and _is_minus_one(node.operand.exponent):
-            return f"{self._base(node.operand.base)}^{{-\\top}}"
-        return f"{self._base(node.operand)}^{{\\top}}"
+            return self._after_label(node.operand.base, "-\\top") or f"{self._base(node.operand.base)}^{{-\\top}}"
+        return self._after_label(node.operand, "\\top") or f"{self._base(node.operand)}^{{\\top}}"
+
+    def _after_label(self, node: n.Node, mark: str) -> str | None:
+        """``W^{(2)\\top}``: a mark written after a symbol's parenthesised label, in one
+        superscript (rule ``label-then-mark``); None when the symbol has no such label."""
+        if not isinstance(node, n.Symbol) or any(sub.up for sub in node.subs):
+            return None
+        _, _, _, label = split_name(node.name)
+        if label is None or not label.startswith("("):
+            return None
+        return self._Symbol(node, label_mark=mark)
 
     def _base(self, node: n.Node) -> str:
         """A node that a superscript follows."""
@@ -144,11 +160,11 @@ class _Printer:
     def _Constant(self, node: n.Constant) -> str:
         return "e" if node.name == "e" else "\\pi"
 
-    def _Symbol(self, node: n.Symbol) -> str:
+    def _Symbol(self, node: n.Symbol, label_mark: str = "") -> str:
         core, primes, labels, sup_label = split_name(node.name)
         segments: list[tuple[str, str]] = []
         if sup_label is not None:
-            segments.append(("^", sup_label))
+            segments.append(("^", sup_label + label_mark))
         subs = list(node.subs)
         if labels:
             leading = []

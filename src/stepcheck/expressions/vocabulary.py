@@ -39,6 +39,12 @@ AMBIGUITY_RULES: dict[str, str] = {
     ),
     "inverse-transpose": "^{-T} and ^{-\\top} are the transpose of the inverse",
     "superscript-label": "^{(l)}, ^{(2)} and ^* are part of the symbol's name (W^{(2)}, \\theta^{*})",
+    "label-then-mark": (
+        "a superscript that starts with a label in parentheses and goes on with a transpose, an "
+        "inverse or a whole-number power applies that mark to the labelled symbol: W^{(2)\\top} = "
+        "(W^{(2)})^\\top, W^{(l)T}, W^{(2)-1} = (W^{(2)})^{-1}, h^{(1)2} = (h^{(1)})^2; any other "
+        "superscript that starts with a parenthesis is read whole (e^{(a+b)t} is a power)"
+    ),
     "scripts-attach": (
         "sub- and superscript attach to the symbol in either order: x^2_i = x_i^2 = (x_i)^2, "
         "\\mathbf{x}_i^\\top = (\\mathbf{x}_i)^\\top"
@@ -236,6 +242,26 @@ UNSUPPORTED: dict[str, str] = {
     "\\ast": "'\\ast' between factors is not read (write \\cdot or juxtapose)",
     "\\star": "'\\star' between factors is not read (write \\cdot or juxtapose)",
 }
+
+#: Commands that mean something only inside a superscript, with what to write instead (so an
+#: error never calls them unknown).
+SUPERSCRIPT_ONLY: dict[str, str] = {
+    "\\top": "a transpose mark",
+    "\\intercal": "a transpose mark",
+    "\\prime": "a prime mark",
+}
+
+#: What may follow a label in one superscript, for error messages.
+AFTER_LABEL = (
+    "after a label a superscript holds only a transpose (\\top, T, \\mathsf{T}), an inverse (-1, "
+    "-\\top) or a whole-number power, as in ^{(2)\\top}"
+)
+
+#: What a superscript may hold, for error messages.
+SUPERSCRIPT_FORMS = (
+    "a superscript holds a transpose (^\\top, ^T, ^{\\mathsf{T}}), an inverse (^{-1}, ^{-\\top}), a "
+    "power, or a label in parentheses optionally followed by one of those (^{(2)}, ^{(2)\\top}, ^{(2)-1})"
+)
 
 #: Characters the reader refuses where an operator or operand is due, with the reason.
 UNSUPPORTED_SYMBOLS: dict[str, str] = {
