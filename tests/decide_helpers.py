@@ -8,6 +8,7 @@ math reader, in a context built by hand.
 from __future__ import annotations
 
 import contextlib
+from dataclasses import replace
 from fractions import Fraction
 from typing import Any, Iterable
 
@@ -65,11 +66,19 @@ def make_context(
     functions: Iterable[str] = (),
     one_based: bool = True,
     dimensions: Iterable[str] = (),
+    elementwise: Iterable[str] = (),
+    up_down: bool = False,
+    metric: str | None = None,
+    homes: dict[str, tuple[bool, ...]] | None = None,
 ) -> StepContext:
     """A step context built by hand.
 
     :param definitions: left side → right side, both LaTeX (``{"b_i": "y_i - X_{ik} w_k"}``,
         ``{"L(\\mathbf{w})": "..."}`` with ``L`` in ``functions``).
+    :param elementwise: left sides (keys of ``definitions``) whose defining row is marked
+        ``(no sum)``.
+    :param up_down: ``indices up-down``; ``metric`` names the metric (``metric g``).
+    :param homes: up-down mode: a tensor's home index heights (True = upper).
     """
     shapes = dict(shapes or {})
     letters = {d for shape in shapes.values() for d in shape if isinstance(d, str)}
@@ -77,19 +86,21 @@ def make_context(
     letters |= set(sizes or ()) | set(dimensions)
     vocabulary = Vocabulary(
         dimensions=frozenset(letters), functions=frozenset(functions), one_based=one_based,
-        tensors=frozenset(shapes),
+        tensors=frozenset(shapes), metric=metric, up_down=up_down,
     )
     options = StepOptions(
         layout=Layout(layout),
         summation=Summation.EXPLICIT if explicit else Summation.EINSTEIN,
         one_based=one_based,
+        up_down=up_down,
     )
     kinds = {name: frozenset(AssumptionKind(k) for k in ks) for name, ks in (assumptions or {}).items()}
     defs = {}
+    marked = set(elementwise)
     for order, (left, right) in enumerate((definitions or {}).items()):
         d = _definition(left, right, vocabulary, order)
-        defs[d.name] = d
-    table = ShapeTable(shapes, dict(families or {}), dict(sizes or {}))
+        defs[d.name] = replace(d, no_sum=left in marked)
+    table = ShapeTable(shapes, dict(families or {}), dict(sizes or {}), dict(homes or {}))
     return StepContext(options, vocabulary, table, kinds, defs, no_sum=no_sum)
 
 

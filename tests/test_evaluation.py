@@ -10,10 +10,13 @@ from __future__ import annotations
 import json
 import re
 import time
+from fractions import Fraction
 
+import numpy as np
 import pytest
+import sympy
 
-from decide_helpers import decide_latex, decide_nodes, make_context, num, sym
+from decide_helpers import as_float_array, decide_latex, decide_nodes, make_context, num, sym, value_latex
 from stepcheck.evaluation.deciding import Decider
 from stepcheck.expressions import nodes as N
 from stepcheck.limits import StepTimeout, time_limit
@@ -272,19 +275,6 @@ def test_no_draw_inside_the_domain_is_unsupported():
     assert outcome.message == "no draw fell inside the domain of the step (a division by zero)"
 
 
-def test_metric_index_moving_is_unsupported():
-    from dataclasses import replace
-
-    from stepcheck import evaluation
-
-    ctx = make_context(shapes={"T": ("n", "n")})
-    ctx = replace(ctx, options=replace(ctx.options, up_down=True), vocabulary=replace(ctx.vocabulary, metric="g", up_down=True))
-    up = N.Symbol("T", (N.Index("i", True, Span(0, 1)), N.Index("j", False, Span(0, 1))), False, Span(0, 1))
-    down = N.Symbol("T", (N.Index("i", False, Span(0, 1)), N.Index("j", False, Span(0, 1))), False, Span(0, 1))
-    outcome = evaluation.decide(up, down, RelationKind.EQUAL, ctx, Settings())
-    assert outcome.verdict is Verdict.UNSUPPORTED and "metric g" in outcome.message
-
-
 # --------------------------------------------------------------------------- cost control
 
 
@@ -379,3 +369,107 @@ def test_a_number_side_is_constant_along_every_free_index():
     assert decide_latex(r"\sum_{j} A_{ij}", "1", shapes=shapes, definitions=defs).verdict is Verdict.HOLDS
     wrong = decide_latex(r"\sum_{j} A_{ij}", "2", shapes=shapes, definitions=defs)
     assert wrong.verdict is Verdict.FAILS
+
+
+# --------------------------------------------------------------------------- domains that exclude some sizes
+
+LEAST_SQUARES = {"X": ("n", "d"), "y": ("n",)}
+
+
+def test_gram_inverse_tries_sizes_where_it_exists():
+    # GIVEN a terrace-yield design matrix X (n×d): XᵀX is singular whenever n < d (rank at
+    # most n; common practice), WHEN a step inverts it, THEN sizes with n > d are sampled and
+    # the message names the sizes used and the ones passed over.
+    outcome = decide_latex(r"(X^\top X)^{-1} X^\top X", r"I", shapes=LEAST_SQUARES)
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.EXACT_SAMPLE
+    assert outcome.message == (
+        "held exactly on 8 random draws at sizes n=3,d=2 and n=4,d=2 "
+        "(sizes n=2,d=3 and n=2,d=4 skipped: no draw inside the domain, a singular matrix was drawn)"
+    )
+
+
+def test_a_wrong_least_squares_step_is_refuted_where_the_inverse_exists():
+    # the hat matrix X(XᵀX)⁻¹Xᵀ is a projection of rank d, the identity only when n = d
+    # (common practice)
+    outcome = decide_latex(r"X (X^\top X)^{-1} X^\top", r"I", shapes=LEAST_SQUARES)
+    assert outcome.verdict is Verdict.FAILS
+    sizes = outcome.counterexample["sizes"]
+    assert sizes["n"] > sizes["d"]
+    x = np.array([[Fraction(v) for v in row] for row in outcome.counterexample["inputs"]["X"]], dtype=object)
+    hat = x.dot(np.array(sympy.Matrix(x.T.dot(x)).inv().tolist(), dtype=object)).dot(x.T)
+    assert [[Fraction(str(v)) for v in row] for row in hat] == _fractions(outcome.counterexample["lhs"])
+
+
+def _fractions(rows):
+    return [[Fraction(v) for v in row] for row in rows]
+
+
+def test_hints_use_sizes_inside_the_domain():
+    outcome = decide_latex(r"(X^\top X)^{-1} X^\top X", r"2I", shapes=LEAST_SQUARES)
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == "the sides differ by a constant factor: the left side is 1/2 times the right side"
+
+
+def test_a_singular_float_matrix_is_outside_the_domain_not_a_difference():
+    # in floating point XᵀX of a wide X is singular only up to rounding; its "inverse" is
+    # noise and must never refute a true step
+    outcome = decide_latex(r"\exp(\operatorname{tr}((X^\top X)^{-1} X^\top X))", r"\exp(\operatorname{tr}(I_d))",
+                           shapes=LEAST_SQUARES)
+    assert outcome.verdict is Verdict.HOLDS and outcome.method is Method.FLOAT_SAMPLE
+    assert "skipped: no draw inside the domain, a singular matrix was drawn" in outcome.message
+
+
+def test_log_det_of_a_singular_gram_matrix_is_outside_the_domain():
+    outcome = decide_latex(r"\log\det(X^\top X)", r"\log\det(X^\top X)", shapes=LEAST_SQUARES)
+    assert outcome.verdict is Verdict.HOLDS
+    assert "n=2,d=3" in outcome.message.partition("(sizes")[2]
+
+
+def test_a_step_outside_its_domain_at_every_size_is_still_unsupported():
+    outcome = decide_latex(r"(\mathbf{y}\mathbf{y}^\top)^{-1}", r"I", shapes=LEAST_SQUARES)
+    assert outcome.verdict is Verdict.UNSUPPORTED
+    assert outcome.message == "no draw fell inside the domain of the step (a singular matrix was drawn)"
+
+
+# --------------------------------------------------------------------------- definitions read elementwise
+
+
+FOULING = {"q": ("k",), "a": ("k",), "W": ("h", "k"), "d": ("h",)}
+
+
+@pytest.mark.parametrize("rhs, verdict", [
+    pytest.param(r"(1 - a_j) W_{ij}", Verdict.HOLDS, id="elementwise-gate"),
+    pytest.param(r"(1 - a_i) W_{ij}", Verdict.FAILS, id="gate-on-the-wrong-index"),
+    pytest.param(r"W_{ij}", Verdict.FAILS, id="gate-dropped"),
+])
+def test_a_definition_marked_no_sum_is_read_elementwise_where_it_is_used(rhs, verdict):
+    # GIVEN a fouling network's gated unit q_j = (1 − a_j) Σ_i W_ij d_i, written with
+    # (no sum) on its own row, WHEN a step differentiates it by d_i, THEN the body keeps j
+    # free (∂q_j/∂d_i = (1 − a_j) W_ij, checked by central differences below).
+    outcome = decide_latex(r"\frac{\partial q_j}{\partial d_i}", rhs, shapes=FOULING,
+                           definitions={"q_j": r"(1 - a_j)\sum_{i} W_{ij} d_i"}, elementwise=["q_j"], no_sum=True)
+    assert outcome.verdict is verdict, outcome.message
+
+
+def test_elementwise_definition_agrees_with_central_differences():
+    a = [Fraction(1, 3), Fraction(-2), Fraction(5, 4)]
+    w = [[Fraction(1), Fraction(-1, 2), Fraction(3)], [Fraction(2, 5), Fraction(0), Fraction(-7, 3)]]
+    d = [Fraction(3, 2), Fraction(-1)]
+    af, wf, df = (np.array(x, dtype=float) for x in (a, w, d))
+    q = lambda dv: (1 - af) * (dv @ wf)  # q_j = (1 - a_j) Σ_i W_ij d_i, elementwise in j
+    h = 1e-6
+    jac = np.array([(q(df + h * e) - q(df - h * e)) / (2 * h) for e in np.eye(2)])  # [i, j]
+    context = dict(shapes=FOULING, definitions={"q_j": r"(1 - a_j)\sum_{i} W_{ij} d_i"}, elementwise=["q_j"])
+    value = value_latex(r"q_j", {"h": 2, "k": 3}, {"a": a, "W": w, "d": d}, **context)
+    assert value.labels == ("j",)
+    assert np.allclose(as_float_array(value), q(df), rtol=1e-12)
+    derivative = value_latex(r"\frac{\partial q_j}{\partial d_i}", {"h": 2, "k": 3}, {"a": a, "W": w, "d": d},
+                             no_sum=True, **context)
+    assert derivative.labels == ("j", "i")
+    assert np.allclose(as_float_array(derivative).T, jac, atol=1e-8)
+
+
+def test_without_its_mark_the_same_definition_is_an_index_mismatch():
+    outcome = decide_latex(r"\frac{\partial q_j}{\partial d_i}", r"(1 - a_j) W_{ij}", shapes=FOULING,
+                           definitions={"q_j": r"(1 - a_j)\sum_{i} W_{ij} d_i"}, no_sum=True)
+    assert outcome.verdict is Verdict.INDEX_ERROR

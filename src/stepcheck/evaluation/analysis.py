@@ -19,6 +19,8 @@ from typing import Hashable
 
 from ..context.model import AssumptionKind, Definition, StepContext
 from ..expressions import nodes as N
+from ..source import Span
+from .metric import definition_home, heights, metric_kinds, metric_name
 from .values import Unsupported
 
 logger = logging.getLogger(__name__)
@@ -144,6 +146,10 @@ class Analysis:
     """An integer power too large to expand symbolically."""
     huge_power: bool = False
     """An integer power too large to evaluate in exact arithmetic."""
+    metric: str | None = None
+    """Up-down mode with a ``metric`` directive: the metric's name."""
+    homes: dict[str, tuple[bool, ...]] = field(default_factory=dict)
+    """Up-down mode with a metric: each tensor's home index heights (see :mod:`.metric`)."""
 
     def range_of(self, key: Key) -> Key:
         return self.uf.find(key)
@@ -163,13 +169,19 @@ class Walker:
         self._visiting: list[str] = []
         self._visited_defs: set[tuple[str, frozenset[str]]] = set()
         self._cross_nodes: list[N.Cross] = []
+        self._defined_uses: list[tuple[Definition, tuple[bool, ...], tuple]] = []
+        self.a.metric = metric_name(context)
 
     # ------------------------------------------------------------------ entry
 
     def run(self, *sides: N.Node) -> Analysis:
         for side in sides:
             self.visit(side, scope=(("main",),), frozen=frozenset(), bound_names=frozenset(), in_diff=False)
+        self._tie_metric()
         self._classify()
+        if self.a.metric in self.a.inputs:
+            spec = self.a.inputs[self.a.metric]
+            spec.kinds = metric_kinds(spec.kinds)
         for letter, size in self.context.shapes.sizes.items():
             if dim_key(letter) in self.a.uf.parent:  # only dimensions this step uses
                 self.a.uf.fix(dim_key(letter), size)
@@ -212,6 +224,8 @@ class Walker:
             return
         definition = self.context.definitions.get(name)
         if definition is not None and name not in frozen:
+            if self.a.metric is not None and node.subs and definition.indices:
+                self._defined_uses.append((definition, heights(node.subs), keys))
             self._visit_definition(definition, node, keys, frozen, params_bound=False, in_diff=in_diff)
             return
         self.occurrences.setdefault(name, []).append((node, keys, name in frozen))
@@ -377,6 +391,43 @@ class Walker:
         self.visit(node.right, scope, frozen, bound_names, in_diff)
         self._cross_nodes.append(node)
 
+    # ------------------------------------------------------------------ metric
+
+    def _tie_metric(self) -> None:
+        """Up-down mode with a metric: fix each tensor's home heights, and make the
+        metric an input (square, over every range an index is moved along)."""
+        metric = self.a.metric
+        if metric is None:
+            return
+        homes = self.context.shapes.homes
+        moved: list[Key] = []
+        for name, occs in self.occurrences.items():
+            if name == metric:
+                continue
+            written = [(heights(node.subs), keys) for node, keys, _ in occs if node.subs]
+            if not written:
+                continue
+            home = tuple(homes.get(name, written[0][0]))
+            self.a.homes[name] = home
+            moved.extend(_moved_keys(written, home))
+        for definition, written_heights, keys in self._defined_uses:
+            home = tuple(homes.get(definition.name, definition_home(definition)))
+            self.a.homes[definition.name] = home
+            moved.extend(_moved_keys([(written_heights, keys)], home))
+        if moved or metric in self.occurrences:
+            self._add_metric(metric, moved)
+
+    def _add_metric(self, metric: str, moved: list[Key]) -> None:
+        occs = self.occurrences.setdefault(metric, [])
+        first = occs[0][0] if occs else None
+        span = first.span if first is not None else Span(0, 0)
+        pair = (N.Index("·", False, span), N.Index("·", False, span))
+        for key in moved or [None]:
+            occs.append((N.Symbol(metric, pair, False, span), (key, key), False))
+        for node, keys, _ in list(occs):
+            if len(keys) == 2 and keys[0] is not None and keys[1] is not None:
+                self.a.uf.union(keys[0], keys[1])
+
     # ------------------------------------------------------------------ domains
 
     def _mark_positive(self, arg: N.Node) -> None:
@@ -458,6 +509,16 @@ class Walker:
                     root = self.a.uf.find(spec.axes[0])
                     if root not in self.a.uf.fixed:
                         self.a.uf.fix(root, 3)
+
+
+def _moved_keys(written: list[tuple[tuple[bool, ...], tuple]], home: tuple[bool, ...]) -> list[Key]:
+    """Range keys of the indices written at another height than home."""
+    out = []
+    for hs, keys in written:
+        if len(hs) != len(home):
+            continue
+        out.extend(k for k, w, h in zip(keys, hs, home) if w != h and k is not None)
+    return out
 
 
 def scalar_name(node: N.Symbol) -> str:

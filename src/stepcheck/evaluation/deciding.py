@@ -21,7 +21,7 @@ from .analysis import Analysis, Key, analyse
 from .compare import Aligned, NeedFloat
 from .lower import Lowerer
 from .model import FLOAT_DPS, HIGH_DPS, Env, Model
-from .sampling import Drawer, free_classes, size_assignments
+from .sampling import Drawer, candidate_assignments, free_classes, size_assignments
 from .values import EvaluationError, IndexMismatch, OutOfDomain, ShapeMismatch, Unsupported
 
 logger = logging.getLogger(__name__)
@@ -44,12 +44,19 @@ class Trial:
 
 #: Draws that may fall outside a domain before a step is given up as unsupported.
 MAX_REDRAWS = 40
+#: Draws in a row outside the domain, with none inside yet, after which a size
+#: assignment is given up for another (a singular ``XᵀX`` at every draw when n < d).
+DOMAIN_PROBE = 6
 #: Inequalities are sampled this many times more than equalities.
 INEQUALITY_FACTOR = 4
 #: Largest expression (sympy ``count_ops``) the symbolic proof attempts.
 PROOF_OPS = 400
 #: Largest expression ``simplify`` is tried on (it is slow beyond).
 SIMPLIFY_OPS = 80
+
+
+class AssignmentOutOfDomain(Unsupported):
+    """Every draw at one size assignment fell outside the step's domain (so far)."""
 
 
 class Decider:
@@ -73,6 +80,8 @@ class Decider:
         self.mode = "float" if self.analysis.transcendental or self.analysis.huge_power else "exact"
         self.notes: list[str] = []
         self._models: dict[tuple, Model] = {}
+        self.sampled: list[dict[Key, int]] = []
+        """The size assignments a holding step was sampled at (empty until then)."""
 
     # ------------------------------------------------------------------ machinery
 
@@ -113,6 +122,8 @@ class Decider:
 
         :param check: judges a draw (default: the step's relation).
         :param swap: ``(input, side, axes)``: that side sees the input with two axes swapped.
+        :raises AssignmentOutOfDomain: the first :data:`DOMAIN_PROBE` draws all fell
+            outside the domain (these sizes may exclude it; try others).
         :raises Unsupported: too many draws fell outside the domain.
         """
         check = check or self.check
@@ -131,6 +142,8 @@ class Decider:
                         ok, err, aligned, dps = True, err_high, high, HIGH_DPS
             except OutOfDomain as e:
                 failures += 1
+                if done == 0 and failures >= DOMAIN_PROBE:
+                    raise AssignmentOutOfDomain(f"no draw fell inside the domain of the step ({e.message})") from e
                 if failures > MAX_REDRAWS:
                     raise Unsupported(f"no draw fell inside the domain of the step ({e.message})") from e
                 continue
@@ -197,20 +210,30 @@ class Decider:
 
     def _sample(self, mode: str) -> Outcome:
         rng = random.Random(self.settings.seed)
-        assignments = size_assignments(self.analysis)
-        per = self.trials_per_assignment(assignments)
+        standard = size_assignments(self.analysis)
+        per = self.trials_per_assignment(standard)
         count, worst, deepest = 0, 0.0, FLOAT_DPS
-        models = []
-        for sizes in assignments:
+        models: list[Model] = []
+        skipped: list[tuple[Model, AssignmentOutOfDomain]] = []
+        for sizes in candidate_assignments(self.analysis):
+            if len(models) == len(standard):
+                break
             model = self.model(sizes)
+            try:
+                for trial in self.trials(model, rng, per, mode):
+                    count += 1
+                    worst = max(worst, trial.error)
+                    deepest = max(deepest, trial.dps)
+                    if not trial.ok:
+                        return self._fails(model, trial.env, trial.aligned, mode)
+            except AssignmentOutOfDomain as error:
+                skipped.append((model, error))
+                continue
             models.append(model)
-            for trial in self.trials(model, rng, per, mode):
-                count += 1
-                worst = max(worst, trial.error)
-                deepest = max(deepest, trial.dps)
-                if not trial.ok:
-                    return self._fails(model, trial.env, trial.aligned, mode)
-        message = self._held(mode, count, models, worst, deepest)
+        if not models:
+            raise Unsupported(skipped[0][1].message)
+        self.sampled = [m.sizes for m in models]
+        message = self._held(mode, count, models, worst, deepest) + _skipped_text(skipped)
         return Outcome(Verdict.HOLDS, _method(mode), message=self._with_notes(message))
 
     def _held(self, mode: str, count: int, models: list[Model], worst: float, deepest: int = FLOAT_DPS) -> str:
@@ -265,6 +288,15 @@ class Decider:
         if shown:
             return "proved symbolically at the fixed sizes " + model.sizes_text()
         return "proved symbolically"
+
+
+def _skipped_text(skipped: list[tuple[Model, AssignmentOutOfDomain]]) -> str:
+    """Which size assignments were passed over because no draw fell inside the domain."""
+    if not skipped:
+        return ""
+    sizes = " and ".join(m.sizes_text() for m, _ in skipped)
+    cause = skipped[0][1].message.rpartition("(")[2].rstrip(")")
+    return f" (sizes {sizes} skipped: no draw inside the domain, {cause})"
 
 
 def _vanishes(d: sympy.Expr, rational: bool) -> bool:

@@ -36,6 +36,7 @@ from ..context.model import AssumptionKind, Layout
 from ..expressions import nodes as N
 from ..source import Span
 from .lower import Lowerer, State
+from .metric import chain_axes, heights
 from .model import Env
 from .values import OutOfDomain, Unsupported, Value, make_value, obj_array, shape_text
 
@@ -218,8 +219,34 @@ def _by_variable(lw: Lowerer, f: Value, v: N.Variable, st: State, gradient: bool
     data = np.empty(lead + shape, dtype=object)
     for idx, block in blocks.items():
         data[idx] = block[()] if block.ndim == 0 else block
+    data = _moved_variable(lw, data, v, lf)
     merged = lw._merge_repeated(data, list(f.labels) + list(var.labels), st)
     return make_value(merged.data, merged.labels)
+
+
+def _moved_variable(lw: Lowerer, data: np.ndarray, v: N.Variable, lf: int) -> np.ndarray:
+    """A derivative by components written at another height than the variable's home
+    (up-down mode with a metric), by the chain rule through the metric."""
+    analysis = lw.model.analysis
+    name = v.target.name
+    home = analysis.homes.get(name)
+    if analysis.metric is None or home is None or name == analysis.metric:
+        return data
+    written = heights(v.target.subs)
+    if len(home) != len(written) or home == written:
+        return data
+    axes: dict[int, bool] = {}
+    position = lf
+    for sub, w, h in zip(v.target.subs, written, home):
+        if not isinstance(sub, N.Index):
+            if w != h:
+                raise Unsupported(f"a derivative by one component of {name} at another height than its home form", v.span)
+            continue
+        if w != h:
+            axes[position] = w
+        position += 1
+    lower, upper = lw.metric_pair()
+    return chain_axes(data, axes, lower, upper)
 
 
 def _kind(shape: tuple[int, ...]) -> str:

@@ -95,10 +95,15 @@ class FunctionRules(_Base):
         if func == "det":
             return self._blockwise(arg, linalg.det)
         if func == "logdet":
-            return self._blockwise(arg, lambda b: self._function("log", linalg.det(b)))
+            return self._blockwise(arg, self._logdet)
         if func == "diag":
             return self._blockwise(arg, linalg.diag)
         return self._blockwise(arg, linalg.vec)
+
+    def _logdet(self, block: Any) -> Any:
+        if self.env.numeric and block.ndim == 2 and linalg.nearly_singular(block):
+            raise OutOfDomain("a singular matrix was drawn")
+        return self._function("log", linalg.det(block))
 
     def _apply_definition(self, node: N.Apply, definition: Definition, st: State) -> Value:
         params = [p.name for p in definition.params if isinstance(p, N.Symbol)]
@@ -108,7 +113,7 @@ class FunctionRules(_Base):
                 node.span,
             )
         args = tuple((p, self.lower_value(a, st)) for p, a in zip(params, node.args))
-        inner = State(frozen=st.frozen, keep=st.keep, overrides=args, definition=True)
+        inner = State(frozen=st.frozen, keep=st.keep, overrides=args, definition=True, elementwise=definition.no_sum)
         value = self.lower_value(definition.body, inner)
         if definition.indices:
             return labels_to_positional(value.with_labels(tuple(definition.indices)), node)

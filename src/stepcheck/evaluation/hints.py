@@ -24,7 +24,7 @@ from ..verdicts import RelationKind
 from . import compare
 from .compare import Aligned, NeedFloat
 from .model import Env, Model
-from .sampling import free_classes, inputs_json, size_assignments, small_assignments, to_json_array
+from .sampling import candidate_assignments, free_classes, inputs_json, size_assignments, small_assignments, to_json_array
 from .values import EvaluationError, Value
 
 if TYPE_CHECKING:
@@ -94,20 +94,31 @@ def _variant_holds(
     extra: dict | None = None,
     swap: tuple | None = None,
 ) -> bool:
+    """Whether a variant holds on fresh draws at the first two of ``assignments`` whose
+    domain is not empty (an assignment where every draw is singular is passed over)."""
+    from .deciding import AssignmentOutOfDomain
+
     rng = random.Random(decider.settings.seed + 7)
+    evaluated = 0
     try:
         for sizes in assignments:
+            if evaluated == 2:
+                break
             model = decider.model(sizes)
-            for trial in decider.trials(model, rng, VARIANT_DRAWS, mode, check, extra=extra, swap=swap):
-                if not trial.ok:
-                    return False
+            try:
+                for trial in decider.trials(model, rng, VARIANT_DRAWS, mode, check, extra=extra, swap=swap):
+                    if not trial.ok:
+                        return False
+            except AssignmentOutOfDomain:
+                continue
+            evaluated += 1
     except (EvaluationError, NeedFloat):
         return False
-    return True
+    return evaluated > 0
 
 
 def _assignments(decider: Decider, model: Model) -> list[dict]:
-    others = [s for s in size_assignments(decider.analysis) if s != model.sizes]
+    others = [s for s in candidate_assignments(decider.analysis) if s != model.sizes]
     return [model.sizes] + others
 
 

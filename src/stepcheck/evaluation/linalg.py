@@ -11,6 +11,7 @@ from __future__ import annotations
 from typing import Callable
 
 import mpmath
+from mpmath.libmp import prec_to_dps
 import numpy as np
 import sympy
 from sympy.matrices.exceptions import NonInvertibleMatrixError
@@ -93,10 +94,31 @@ def inverse(block: np.ndarray) -> np.ndarray:
             raise Unsupported(f"a symbolic inverse of a {n}×{n} matrix (the cap is {SYMBOLIC_CAP}×{SYMBOLIC_CAP})")
         det = m.det(method="berkowitz")
         return _from_matrix(m.adjugate(method="berkowitz")) * reciprocal(det)
+    if nearly_singular(block):
+        raise OutOfDomain("a singular matrix was drawn")
     try:
         return _from_matrix(m.inv())
     except (NonInvertibleMatrixError, ZeroDivisionError) as e:
         raise OutOfDomain("a singular matrix was drawn") from e
+
+
+def nearly_singular(block: np.ndarray) -> bool:
+    """Whether a square block of floating-point numbers is singular up to rounding.
+
+    Exact blocks are told by exact elimination; a float block computed from a
+    singular exact one (``XᵀX`` with X n×d, n < d) has a determinant of the order of
+    the rounding error, not zero, and its inverse would be noise.  The test: the
+    determinant is below ``10^(-dps/2)`` times Hadamard's bound (the product of the
+    row norms), which a nonsingular random draw misses by many orders of magnitude.
+    """
+    floats = [x for x in block.flat if isinstance(x, sympy.Float)]
+    if not floats or not all(getattr(x, "is_number", False) for x in block.flat):
+        return False
+    dps = prec_to_dps(min(x._prec for x in floats))
+    with mpmath.workdps(dps):
+        m = mpmath.matrix([[mpmath.mpf(sympy.Float(x, dps)._mpf_) for x in row] for row in block.tolist()])
+        bound = mpmath.fprod(mpmath.norm(m[i, :]) for i in range(m.rows))
+        return bound == 0 or abs(mpmath.det(m)) <= bound * mpmath.mpf(10) ** (-(dps // 2))
 
 
 def reciprocal(x: object) -> object:

@@ -25,6 +25,7 @@ from . import linalg
 from .analysis import scalar_name
 from .arithmetic import ArithmeticRules
 from .functions import FunctionRules
+from .metric import heights, move_axes
 from .model import Env, Model
 from .state import State
 from .values import (
@@ -68,6 +69,7 @@ class Lowerer(ArithmeticRules, FunctionRules):
         """Set while differentiating: (dummy array, node, state) per placeholder."""
         self._definition_cache: dict[Any, Value] = {}
         self._reach_cache: dict[str, frozenset[str]] = {}
+        self._metric: tuple[np.ndarray, np.ndarray] | None = None
         self.notes: list[str] = []
 
     # ------------------------------------------------------------------ dispatch
@@ -171,13 +173,36 @@ class Lowerer(ArithmeticRules, FunctionRules):
                 return Value(as_array(self.env.values[key][()]))
         if spec is None:
             raise Unsupported(f"the symbol {name}", node.span)  # pragma: no cover - the analysis saw it
-        self._check_metric(node)
-        return self.index_native(self.env.values[name], node.subs, st, node, family=spec.family is not None)
+        native = self.env.values[name]
+        if analysis.metric is not None and node.subs and spec.family is None:
+            native = self._at_heights(name, native, node.subs)
+        return self.index_native(native, node.subs, st, node, family=spec.family is not None)
 
-    def _check_metric(self, node: N.Symbol) -> None:
-        vocab = self.context.vocabulary
-        if self.context.options.up_down and vocab.metric and any(getattr(s, "up", False) for s in node.subs):
-            raise Unsupported(f"raising or lowering indices with the metric {vocab.metric} ({node.name})", node.span)
+    # ------------------------------------------------------------------ index heights
+
+    def _at_heights(self, name: str, data: np.ndarray, subs: tuple) -> np.ndarray:
+        """A tensor's components at the written index heights (up-down mode with a
+        metric): the metric itself is ``g_{ij}``, ``g^{ij}`` its inverse, mixed the
+        identity; any other tensor has its indices moved from its home heights."""
+        written = heights(subs)
+        if name == self.model.analysis.metric:
+            if len(written) != 2 or written == (False, False):
+                return data
+            if written == (True, True):
+                return self.metric_pair()[1]
+            return obj_array(data.shape, lambda i: ONE if i[0] == i[1] else ZERO)
+        home = self.model.analysis.homes.get(name)
+        if home is None or len(home) != len(written) or home == written:
+            return data
+        lower, upper = self.metric_pair()
+        return move_axes(data, written, home, lower, upper)
+
+    def metric_pair(self) -> tuple[np.ndarray, np.ndarray]:
+        """The metric ``g_{ij}`` and its inverse ``g^{ij}`` in this environment."""
+        if self._metric is None:
+            g = self.env.values[self.model.analysis.metric]  # type: ignore[index]
+            self._metric = (g, linalg.inverse(g))
+        return self._metric
 
     def index_native(
         self, native: np.ndarray, subs: tuple, st: State, node: N.Node, family: bool = False, positional: bool = True
@@ -268,9 +293,11 @@ class Lowerer(ArithmeticRules, FunctionRules):
         return not self._explicit(st) and label not in st.bound
 
     def _explicit(self, st: State) -> bool:
-        """Repeated indices are elementwise (a definition's body ignores the step's
-        ``(no sum)`` mark, which belongs to the step's row)."""
-        return self.explicit_in_definitions if st.definition else self.explicit
+        """Repeated indices are elementwise (a definition's body ignores the using step's
+        ``(no sum)`` mark, which belongs to that step's row, and follows its own row's)."""
+        if st.definition:
+            return self.explicit_in_definitions or st.elementwise
+        return self.explicit
 
     def _defined(self, node: N.Symbol, definition: Definition, st: State) -> Value:
         value = self._definition_value(definition, st, ())
@@ -289,11 +316,14 @@ class Lowerer(ArithmeticRules, FunctionRules):
                     f"{definition.name} is defined with {len(definition.indices)} indices but written with {len(node.subs)}",
                     node.span,
                 )
-            return self.index_native(value.data, node.subs, st, node, positional=False)
+            data = value.data
+            if self.model.analysis.metric is not None:
+                data = self._at_heights(definition.name, data, node.subs)
+            return self.index_native(data, node.subs, st, node, positional=False)
         return self.index_positional(value, node.subs, st, node)
 
     def _definition_value(self, definition: Definition, st: State, overrides: tuple) -> Value:
-        inner = State(frozen=st.frozen, keep=st.keep, overrides=overrides, definition=True)
+        inner = State(frozen=st.frozen, keep=st.keep, overrides=overrides, definition=True, elementwise=definition.no_sum)
         key = (definition.name, inner.cache_key())
         if key not in self._definition_cache:
             self._definition_cache[key] = self.lower_value(definition.body, inner)
@@ -333,7 +363,7 @@ class Lowerer(ArithmeticRules, FunctionRules):
         return self._reach_cache[name]
 
     def _placeholder(self, node: N.Node, st: State) -> Value | None:
-        numeric_state = State(bound=st.bound, frozen=st.frozen, definition=st.definition)
+        numeric_state = State(bound=st.bound, frozen=st.frozen, definition=st.definition, elementwise=st.elementwise)
         key = (id(node), numeric_state.cache_key())
         probe = self.model.probe_cache.get(key)
         if probe is None:
@@ -383,7 +413,7 @@ class Lowerer(ArithmeticRules, FunctionRules):
     def _limit(self, node: N.Node | None, st: State, default: int) -> int:
         if node is None:
             return default
-        value = self.lower_value(node, State(frozen=st.frozen, definition=st.definition))
+        value = self.lower_value(node, State(frozen=st.frozen, definition=st.definition, elementwise=st.elementwise))
         x = value.scalar() if value.is_scalar else None
         if x is None or not getattr(x, "is_integer", False):
             raise Unsupported("a sum limit that is not a whole number", node.span)

@@ -65,6 +65,33 @@ def size_assignments(analysis: Analysis) -> list[dict[Key, int]]:
     return [dict(zip(free, first)), dict(zip(free, second))]
 
 
+#: Size assignments tried in all before a step whose domain excludes some sizes (an
+#: inverse of ``XᵀX`` with X n×d is singular whenever n < d) is given up.
+MAX_ASSIGNMENTS = 8
+
+
+def candidate_assignments(analysis: Analysis, limit: int = MAX_ASSIGNMENTS) -> list[dict[Key, int]]:
+    """The two assignments of :func:`size_assignments`, then further assignments of
+    distinct sizes (other arrangements of a slightly larger palette), smallest first.
+
+    The further ones serve steps whose domain excludes some arrangements of sizes:
+    ``(X^\top X)^{-1}`` needs n ≥ d, so when n=2,d=3 makes every draw singular,
+    n=3,d=2 and n=4,d=2 are tried.
+    """
+    first = size_assignments(analysis)
+    free = free_classes(analysis)
+    if not free:
+        return first
+    taken = set(analysis.uf.fixed.values())
+    palette = [s for s in range(2, 2 * len(free) + 8) if s not in taken][: len(free) + 2]
+    seen = [tuple(a[k] for k in free) for a in first]
+    extra = sorted(
+        (c for c in itertools.permutations(palette, len(free)) if c not in seen),
+        key=lambda c: (sum(c), c),
+    )
+    return first + [dict(zip(free, c)) for c in extra[: max(0, limit - len(first))]]
+
+
 def small_assignments(analysis: Analysis, limit: int = 6) -> list[dict[Key, int]]:
     """Small size assignments, smallest first (for counterexamples)."""
     free = free_classes(analysis)

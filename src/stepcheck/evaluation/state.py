@@ -21,7 +21,10 @@ class State:
     overrides: tuple[tuple[str, Value], ...] = ()
     """Parameters of a definition applied to arguments (``L(\\mathbf{v})``)."""
     definition: bool = False
-    """Inside a definition's body: its row's ``(no sum)`` mark does not reach it."""
+    """Inside a definition's body: the using step's ``(no sum)`` mark does not reach it."""
+    elementwise: bool = False
+    """Inside the body of a definition whose own row is marked ``(no sum)``: repeated
+    indices there are elementwise wherever the definition is used."""
 
     def override(self, name: str) -> Value | None:
         for key, value in self.overrides:
@@ -30,4 +33,4 @@ class State:
         return None
 
     def cache_key(self) -> tuple:
-        return (self.bound, self.frozen, self.keep, tuple((k, id(v)) for k, v in self.overrides), self.definition)
+        return (self.bound, self.frozen, self.keep, tuple((k, id(v)) for k, v in self.overrides), self.definition, self.elementwise)
