@@ -28,11 +28,6 @@ VERDICTS = {"holds", "defines", "fails", "index-error", "shape-error", "skipped"
 DOCUMENT_SUFFIXES = (".tex", ".md", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-_LABEL_TOP = "parser: `^{(2)\\top}` (label and transpose in one superscript) is a parse-error"
-_DELTA1_LOST = (
-    "definitions: delta^(1) lost to the `^{(2)\\top}` parse-error, so the (no sum) component row "
-    "becomes its definition and is read in Einstein mode"
-)
 _W_SHAPE = (
     "shapes: the wrong step `-W G^T r` drives inference to W (n x p) despite W = diag(w); the "
     "error is blamed on correct lines"
@@ -43,16 +38,6 @@ KNOWN: dict[str, str] = {
     "blade-root-calibration.tex:59:15": _W_SHAPE,
     "blade-root-calibration.tex:65:29": _W_SHAPE,
     "blade-root-calibration.tex:66:29": _W_SHAPE,
-    "fouling-net-backprop.tex:24:30": _LABEL_TOP,
-    "fouling-net-backprop.tex:30:27": _LABEL_TOP,
-    "fouling-net-backprop.tex:31:36": _LABEL_TOP,
-    "fouling-net-backprop.tex:38:44": _LABEL_TOP,
-    "fouling-net-backprop.tex:32:36": _DELTA1_LOST,
-    "fouling-net-backprop.tex:33:36": _DELTA1_LOST,
-    "fouling-net-backprop.tex:34:27": _DELTA1_LOST,
-    "fouling-net-backprop.tex:47:21": _DELTA1_LOST,
-    "fouling-net-backprop.tex:49:50": _DELTA1_LOST,
-    "fouling-net-backprop.tex:57:20": _DELTA1_LOST,
     "orchard-moisture-gp.tex:29:5": (
         "splitting: `\\quad\\text{by (2)}` before a relation on the next line ends the chain; the "
         "next `=` is a parse-error"
