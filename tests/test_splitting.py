@@ -115,6 +115,66 @@ def test_tex_step_positions(text: str, expected: list[str]) -> None:
     assert step_lines(structure(text)) == expected
 
 
+# An annotation at the end of a row, or between an expression and the next relation, is
+# dropped and the chain goes on (SPEC §2, §3; field report T1).  Positions counted by hand.
+ANNOTATION_BEFORE_RELATION_CASES = [
+    (
+        "equation-annotation-then-relation-on-next-line",
+        "\\begin{equation}\n  x = 2y \\quad\\text{by (2)}\n  = y + y\n\\end{equation}\n",
+        ["doc.tex:2:7 1.1 x = 2y", "doc.tex:3:5 1.2 2y = y + y"],
+    ),
+    (
+        "align-rows-annotation-before-row-break",
+        "\\begin{align}\n  x &= 2y \\quad\\text{by (2)} \\\\\n    &= y + y\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 x = 2y", "doc.tex:3:8 1.2 2y = y + y"],
+    ),
+    (
+        "equation-qquad-parenthesised-note-then-relation",
+        "\\begin{equation}\n  p = q r \\qquad\\text{(using 3)}\n    = r q\n\\end{equation}\n",
+        ["doc.tex:2:7 1.1 p = q r", "doc.tex:3:7 1.2 q r = r q"],
+    ),
+    (
+        "align-qquad-parenthesised-note-then-row-break",
+        "\\begin{align}\n  p &= q r \\qquad\\text{(using 3)} \\\\\n    &= r q\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 p = q r", "doc.tex:3:8 1.2 q r = r q"],
+    ),
+    (
+        "annotation-between-relations-on-one-row",
+        "\\[ u = v + v \\quad\\text{by (4)}\\quad = 2v \\]\n",
+        ["doc.tex:1:8 1.1 u = v + v", "doc.tex:1:40 1.2 v + v = 2v"],
+    ),
+    (
+        "comma-and-note-before-a-relation",
+        "\\begin{equation}\n  s = a + b, \\quad \\text{(sum rule)}\n  = b + a .\n\\end{equation}\n",
+        ["doc.tex:2:7 1.1 s = a + b", "doc.tex:3:5 1.2 a + b = b + a"],
+    ),
+    (
+        "annotation-then-expression-still-splits",
+        "\\begin{equation}\n  x = 2y \\quad\\text{hence}\n  z = 3y\n\\end{equation}\n",
+        ["doc.tex:2:7 1.1 x = 2y", "doc.tex:3:7 2.1 z = 3y"],
+    ),
+    (
+        "annotation-at-the-end-of-the-last-row",
+        "\\[ m = n \\quad\\text{(by 1)} \\]\n",
+        ["doc.tex:1:8 1.1 m = n"],
+    ),
+]
+
+
+@pytest.mark.parametrize(
+    "text, expected", [c[1:] for c in ANNOTATION_BEFORE_RELATION_CASES], ids=[c[0] for c in ANNOTATION_BEFORE_RELATION_CASES]
+)
+def test_annotation_before_a_relation_does_not_end_the_chain(text: str, expected: list[str]) -> None:
+    s = structure(text)
+    assert step_lines(s) == expected
+    assert s.unreadable == ()
+
+
+def test_annotation_before_a_relation_in_markdown_display() -> None:
+    text = "Load on the cable:\n\n$$\nT = 2 w \\quad\\text{by (1)}\n= w + w\n$$\n"
+    assert step_lines(structure(text, "md")) == ["doc.md:4:5 1.1 T = 2 w", "doc.md:5:3 1.2 2 w = w + w"]
+
+
 RELATION_CASES = [
     ("=", "=", RelationKind.EQUAL, None),
     (":=", ":=", RelationKind.DEFINE, None),

@@ -258,7 +258,7 @@ def chains_of_line(line: Sequence[Placed], source: SourceText) -> list[ChainDraf
                 continue
             length = _separator_length(tokens, i)
             if length:
-                if sides[-1]:
+                if sides[-1] and not _relation_after_separators(tokens, info, i):
                     drafts.extend(_finish(line, sides, relations, source))
                     sides, relations = [[]], []
                 i += length
@@ -271,6 +271,25 @@ def chains_of_line(line: Sequence[Placed], source: SourceText) -> list[ChainDraf
         i += length
     drafts.extend(_finish(line, sides, relations, source))
     return drafts
+
+
+def _relation_after_separators(tokens: Sequence[Token], info: Sequence[tuple[int, int, bool]], i: int) -> bool:
+    """Whether the separators, annotations and spacing from token ``i`` on lead to a relation:
+    ``x = 2y \\quad\\text{by (2)} = y + y`` is one chain, the annotation standing between
+    relations is dropped (SPEC §2, §3).  At the end of the line they lead to nothing (and are
+    dropped too)."""
+    n = len(tokens)
+    while i < n:
+        _, depth, delimiter = info[i]
+        if depth != 0 or delimiter:
+            return False
+        length = _separator_length(tokens, i)
+        if not length:
+            length, category = unit_at(tokens, i)
+            if category != SPACE:
+                return relation_at(tokens, i) is not None
+        i += length
+    return False
 
 
 def _separator_length(tokens: Sequence[Token], i: int) -> int:
