@@ -38,10 +38,6 @@ KNOWN: dict[str, str] = {
     "blade-root-calibration.tex:59:15": _W_SHAPE,
     "blade-root-calibration.tex:65:29": _W_SHAPE,
     "blade-root-calibration.tex:66:29": _W_SHAPE,
-    "orchard-moisture-gp.tex:29:5": (
-        "splitting: `\\quad\\text{by (2)}` before a relation on the next line ends the chain; the "
-        "next `=` is a parse-error"
-    ),
     "terrace-yield-ridge.md:66:31": (
         "evaluator: `(X^T X)^{-1}` with X n x d is unsupported (singular draws) instead of trying "
         "sizes with n > d"
@@ -56,11 +52,7 @@ KNOWN: dict[str, str] = {
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
-KNOWN_EXTRA: dict[str, str] = {
-    "orchard-moisture-gp.tex": (
-        "splitting: the `=` after `\\quad\\text{by (2)}` is reported as a parse-error step at 29:3"
-    ),
-}
+KNOWN_EXTRA: dict[str, str] = {}
 
 
 def _documents() -> list[Path]:
