@@ -28,16 +28,9 @@ VERDICTS = {"holds", "defines", "fails", "index-error", "shape-error", "skipped"
 DOCUMENT_SUFFIXES = (".tex", ".md", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-_W_SHAPE = (
-    "shapes: the wrong step `-W G^T r` drives inference to W (n x p) despite W = diag(w); the "
-    "error is blamed on correct lines"
-)
 _METRIC = "index check/evaluator: raising or lowering an index with the metric is unsupported"
 
 KNOWN: dict[str, str] = {
-    "blade-root-calibration.tex:59:15": _W_SHAPE,
-    "blade-root-calibration.tex:65:29": _W_SHAPE,
-    "blade-root-calibration.tex:66:29": _W_SHAPE,
     "terrace-yield-ridge.md:66:31": (
         "evaluator: `(X^T X)^{-1}` with X n x d is unsupported (singular draws) instead of trying "
         "sizes with n > d"
