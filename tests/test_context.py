@@ -175,6 +175,42 @@ def test_levi_civita_fixes_the_range_to_three():
     assert shapes.sizes["k"] == 3
 
 
+def test_a_diag_definition_outranks_a_wrong_step_which_is_the_one_reported():
+    # a strain-gauge rig's weighted misfit: W = diag(w) is square, so -W G^T r is the
+    # wrong-order product (n×n)(p×n), and the definition line above it is fine
+    text = (
+        "$\\mathbf{r} \\in \\mathbb{R}^{n}$, $G \\in \\mathbb{R}^{n\\times p}$, "
+        "$\\boldsymbol{\\theta} \\in \\mathbb{R}^{p}$, $W = \\operatorname{diag}(\\mathbf{w})$\n"  # 1
+        "\\[ \\tilde{J} = \\tfrac12\\,\\mathbf{r}^\\top W\\mathbf{r} \\]\n"                     # 2
+        "\\[ \\nabla_{\\boldsymbol{\\theta}}\\tilde{J} = -W G^\\top \\mathbf{r} \\]\n"          # 3
+    )
+    context = document_context(text, "tex")
+    definition, wrong = plan_at(context, 2), plan_at(context, 3)
+    assert definition.defines is not None and definition.findings == ()
+    assert [type(f) for f in wrong.findings] == [m.ShapeMultiply]
+    assert wrong.findings[0].message == "cannot multiply (n×n) by (p×n) in `W G^\\top \\mathbf{r}` (column 45)"
+    shapes = wrong.context.shapes.symbols
+    assert shapes["W"] == ("n", "n") and shapes["w"] == ("n",)
+    assert not [n for n in context.notes if "diagonal" in n.message]
+    assert context.origins["W"].describe().startswith("from its definition on line 1")
+
+
+def test_a_later_definition_outranks_an_earlier_checked_step():
+    # a truss model: B = X^T X is p×p wherever it is written; the quadratic form before
+    # it sandwiches B between n-vectors, and that step is the one at fault
+    text = (
+        "$X \\in \\mathbb{R}^{n\\times p}$, $\\mathbf{v} \\in \\mathbb{R}^{n}$\n\n"           # 1
+        "$$\n\\mathbf{v}^\\top B \\mathbf{v} = \\mathbf{v}^\\top B^\\top \\mathbf{v}\n$$\n\n"  # 4
+        "$$\nB = X^\\top X\n$$\n"                                                             # 8
+    )
+    context = document_context(text)
+    step, definition = plan_at(context, 4), plan_at(context, 8)
+    assert definition.defines is not None and definition.findings == ()
+    assert step.findings and type(step.findings[0]) is m.ShapeMultiply
+    assert "cannot multiply (1×n) by (p×p)" in step.findings[0].message
+    assert step.context.shapes.symbols["B"] == ("p", "p")
+
+
 # --------------------------------------------------------------------------- wired
 
 

@@ -17,7 +17,7 @@ ORIGIN_WORDS = {
     "declared": "declared",
     "index": "from its index use",
     "definition": "from its definition",
-    "inferred": "inferred from",
+    "inferred": "inferred from its use",
     "assumed": "from the assumption",
     "bold": "taken as a vector (bold, never declared)",
     "bold-matrix": "taken as a matrix (bold capital, never declared)",

@@ -44,9 +44,15 @@ def square_to_scalar(checker: StepShapes, node: n.Apply, tree: n.Node, arg: Val)
 
 
 def diag(checker: StepShapes, node: n.Apply, tree: n.Node, arg: Val) -> Val:
-    """A vector to a diagonal matrix; a square matrix to its diagonal."""
+    """A vector to a diagonal matrix; a square matrix to its diagonal.  An unknown bare
+    argument is taken as a vector, so ``W = \\operatorname{diag}(\\mathbf{w})`` gives W its
+    square shape on the first reading, before any step under test is read."""
     if arg.shape is None:
-        checker.expect(tree, (checker.dims.fresh(),))
+        dim = checker.dims.fresh()
+        checker.expect(tree, (dim,))
+        entry = checker.env.table.get(arg.ref) if arg.ref is not None else None
+        if entry is not None and entry.shape == (dim,):
+            return Val((dim, dim))
         return UNKNOWN
     if checker.env.is_scalar(arg.shape):
         return SCALAR

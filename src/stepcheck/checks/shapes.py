@@ -100,6 +100,11 @@ class StepShapes:
                     self._conflict(defines, entry, body.shape, rhs.span)
             return
         left, right = self.visit(lhs), self.visit(rhs)
+        if defines is not None and left.ref is not None and right.shape is not None and not right.wild:
+            entry = self.env.table[left.ref]
+            if entry.family is None:  # the defined symbol takes its body's shape
+                self.env.bind(entry, right.shape, Origin(self.source, lhs.span, "definition"))
+                left = Val(entry.shape)
         if not assumes:
             self.compare(lhs, rhs, left, right)
 
@@ -386,7 +391,7 @@ class StepShapes:
                 shape = (self.dims.fresh(), view[0])
             else:
                 continue
-            self.env.bind(entry, shape, Origin(self.source, entry.first.span, "bold"))
+            self.env.bind(entry, shape, Origin(self.source, entry.first.span, "bold" if entry.bold else "inferred"))
 
     def _dot(self, node: n.Node) -> Val:
         assert isinstance(node, n.Dot)

@@ -248,12 +248,15 @@ def _units(
                 continue
             key = _key(item.chain, index)
             definition = definitions.get(key)
+            # W = diag(w) both defines and assumes: its sides are compared like any
+            # definition's, so W takes the diag's square shape
+            assumes = definition is None and (key in assumed or _assumption(item, index) is not None)
             units.append(
                 Unit(
                     key, lhs, rhs, item.chain.source, item.options, item.display,
                     definition.name if definition is not None else None,
                     bool(definition is not None and definition.params),
-                    key in assumed or _assumption(item, index) is not None,
+                    assumes,
                 )
             )
     return units

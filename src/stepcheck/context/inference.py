@@ -1,8 +1,10 @@
 """Shape inference over a whole document (SPEC §5, §8).
 
-Declarations come first.  Then every step of the file (display and inline chains, in
-document order) is read with the shape rules of :mod:`stepcheck.checks.shapes`, again and
-again, until a pass teaches nothing new: an index use (``X_{ik}``) gives a symbol its
+Declarations come first, then definitions (and stated assumptions), read until they
+teach nothing new, so that what the document sets down (``W = \\operatorname{diag}(\\mathbf{w})``
+is square) outranks the steps under test.  Then every step of the file (display and
+inline chains, in document order) is read with the shape rules of
+:mod:`stepcheck.checks.shapes`, again and again, until a pass teaches nothing new: an index use (``X_{ik}``) gives a symbol its
 axes, a product or a sum ties sizes, a definition gives its symbol the body's shape.
 Symbols still unknown then get a default — a bold one is a vector (a bold capital a
 matrix), one assumed symmetric or alike a square matrix, anything else a scalar (with
@@ -77,8 +79,11 @@ def infer_shapes(
     for assumption in assumptions:
         if assumption.kind in SQUARE_KINDS:
             env.entry(assumption.name, assumption.source, assumption.span).square = True
+    settled = [u for u in units if u.defines is not None or u.assumes]
+    _settle(env, settled)
     _settle(env, units)
     _default_shapes(env, scalars=False)
+    _settle(env, settled)
     _settle(env, units)
     notes.extend(_default_shapes(env, scalars=True))
     findings: dict[Hashable, tuple[Diagnostic, ...]] = {}
