@@ -26,6 +26,7 @@ from ..settings import Settings
 from ..source import SourceText, Span
 from ..verdicts import RelationKind
 from . import definitions as defs
+from . import heights
 from .declarations import RowFacts, assumption_of, assumption_table, read_rows, set_letters
 from .inference import Inference, Unit, infer_shapes
 from .model import Assumption, AssumptionKind, Definition, StepContext, StepOptions, Summation, Vocabulary
@@ -309,6 +310,38 @@ def _plan(item: ReadChain, index: int, doc: _Document) -> StepPlan:
     return StepPlan(step, lhs, rhs, error if (lhs is None or rhs is None) else None, context, own, assumes, tuple(findings))
 
 
+def _homes(
+    structure: Structure,
+    timeline: OptionTimeline,
+    vocabulary: Vocabulary,
+    read: Sequence[ReadChain],
+    definitions: Mapping[StepKey, Definition],
+    facts: RowFacts,
+) -> dict[str, tuple[bool, ...]]:
+    """Up-down mode: each tensor's home index heights (declaration, definition, first use)."""
+    if not any(item.options.up_down for item in read) and not any(timeline.at(r.order).up_down for r in structure.rows):
+        return {}
+
+    def vocabulary_at(order: int) -> Vocabulary:
+        return with_options(vocabulary, timeline.at(order))
+
+    def read_tokens(tokens: Sequence[Token], source: SourceText, words: Vocabulary) -> Node:
+        return _reader(words)(tokens, source)
+
+    declared = heights.declaration_heights(structure.rows, vocabulary_at, read_tokens)
+    defined = heights.definition_heights(
+        (definitions[_key(item.chain, index)], item.trees[index - 1])
+        for item in read
+        if item.options.up_down
+        for index in range(1, len(item.chain.sides))
+        if _key(item.chain, index) in definitions
+    )
+    uses = heights.chain_uses((item.chain, item.options, item.trees) for item in read)
+    uses += heights.row_uses(structure.rows, vocabulary_at, read_tokens)
+    families = frozenset(d.name for d in facts.declarations if d.family)
+    return heights.home_heights(declared, defined, uses, vocabulary.metric, families)
+
+
 def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     """Read every side, collect declarations, assumptions and definitions, infer shapes,
     and plan every display step.
@@ -339,6 +372,9 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     }
     assumptions = list(facts.assumptions) + list(step_assumptions.values())
     inference = infer_shapes(_units(read, definitions, step_assumptions), facts.declarations, assumptions, vocabulary.dimensions, sizes)
+    homes = _homes(structure, timeline, vocabulary, read, definitions, facts)
+    if homes:
+        inference = dataclasses.replace(inference, table=dataclasses.replace(inference.table, homes=homes))
     doc = _Document(defs.Scope(definitions.values()), definitions, step_assumptions, assumption_table(assumptions), inference)
     plans = [
         _plan(item, index, doc)

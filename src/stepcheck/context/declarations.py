@@ -209,6 +209,21 @@ def read_declarations(row: Row, read: Reader) -> tuple[list[Declaration], list[A
     return declarations, assumptions, notes
 
 
+def declared_symbols(row: Row, read: Reader) -> list[n.Symbol]:
+    """The symbols on the left of every top-level ``\\in`` of a row, as read (subscripts
+    and their heights kept: ``T^{i}{}_{j} \\in \\mathbb{R}`` in up-down mode)."""
+    tokens = row.tokens
+    depths = _depths(tokens)
+    found: list[n.Symbol] = []
+    start = 0
+    for k, token in enumerate(tokens):
+        if depths[k] != 0 or not token.is_command("\\in"):
+            continue
+        found.extend(_symbols(_names_before(tokens, start, k, depths), row.source, read))
+        start = k + 1
+    return found
+
+
 def _symbols(items: list[list[Token]], source: SourceText, read: Reader) -> list[n.Symbol]:
     """The items that read as symbols, from the right, up to the first that does not."""
     found: list[n.Symbol] = []
