@@ -19,7 +19,7 @@ import pytest
 
 from stepcheck.context.model import Vocabulary
 from stepcheck.expressions import nodes as n
-from stepcheck.expressions import parser
+from stepcheck.expressions import parser, relations
 from stepcheck.expressions.errors import ParseError
 from stepcheck.expressions.parser import MAX_DEPTH, parse_latex, parse_side, read_latex
 from stepcheck.expressions.tokens import tokenize
@@ -247,6 +247,29 @@ def test_an_error_in_a_side_over_two_lines_says_at_column_n_of_its_own_line() ->
     assert caught.value.message.startswith("'\\top' at column 11 is a transpose mark")
     assert str(caught.value).startswith("notes/duct.tex:3:11: ")
     assert "line" not in caught.value.message
+
+
+# --------------------------------------------------------------------------- the splitter's words
+
+_SPLITTER_MARKS = sorted(
+    name for name in set(relations.RELATIONS) | relations.SEPARATORS
+    if name.startswith("\\") and name not in relations.DROPPED
+)
+
+
+@pytest.mark.parametrize("command", _SPLITTER_MARKS)
+def test_a_relation_or_separator_inside_brackets_is_named_never_unknown(command: str) -> None:
+    """The splitter does not cut inside brackets, so the reader meets its relations and
+    separators there: the error names the token where it stands, never as an unknown command."""
+    with pytest.raises(ParseError) as caught:
+        parse_latex(f"(a {command} b)")
+    assert f"'{command}' at column 4" in caught.value.message
+    assert "unknown command" not in caught.value.message
+
+
+@pytest.mark.parametrize("command", sorted(relations.DROPPED))
+def test_what_the_splitter_drops_the_reader_drops_too(command: str) -> None:
+    assert n.outline(parse_latex(f"(a {command} b)")) == n.outline(parse_latex("(a b)"))
 
 
 def test_matrix_literal_keeps_its_rows() -> None:

@@ -25,13 +25,15 @@ from ._stream import describe as _describe
 from .tokens import Token, TokenKind
 from .vocabulary import (
     ACCENTS,
+    AFTER_LABEL,
     BOLD_FONTS,
     GREEK,
     LABEL_COMMANDS,
     NAMED_FONTS,
     OPERATOR_NAMES,
     PLAIN_FONTS,
-    AFTER_LABEL,
+    PRODUCT_OPERATORS,
+    SLASH_OPERATORS,
     SUPERSCRIPT_MARKS,
     TEXT_FONTS,
     is_index_name,
@@ -474,9 +476,9 @@ class SymbolReading:
         rest_toks = toks[rest.start : rest.end]
         if _mark_key(rest_toks) in _MARKS_AFTER_LABEL or _whole_power(rest_toks):
             return label, rest
-        if any(t.is_symbol("+", "-") for t in toks[script.start : close]):
-            return None  # an exponent such as (a+b)t
         first = rest_toks[0]
+        if any(t.is_symbol("+", "-") for t in toks[script.start : close]) or not _multiplies(first):
+            return None  # an exponent such as (a+b)t, (x)_i or (n)/2
         raise self.s.error(
             f"{_describe(first)} at {self.s.where(first.span)} follows the label '{label}' in the superscript "
             f"'{self.s.text_of(script.span)}': {AFTER_LABEL}",
@@ -556,6 +558,16 @@ def _mark_key(toks: list[Token]) -> tuple[str, ...]:
     return tuple(t.text for t in toks if t.kind not in (TokenKind.OPEN, TokenKind.CLOSE, TokenKind.TEXT)) + tuple(
         t.text.strip() for t in toks if t.kind is TokenKind.TEXT
     )
+
+
+def _multiplies(tok: Token) -> bool:
+    """Whether ``tok`` after a parenthesis would multiply it (``(2)k``), rather than
+    script it, add to it or divide it (``(x)_i``, ``(a)+1``, ``(n)/2``)."""
+    if tok.kind in (TokenKind.SUB, TokenKind.SUP):
+        return False
+    if tok.kind is TokenKind.SYMBOL:
+        return tok.text not in ("+", "-", "/", "'", ",")
+    return not (tok.kind is TokenKind.COMMAND and (tok.text in PRODUCT_OPERATORS or tok.text in SLASH_OPERATORS))
 
 
 def _whole_power(toks: list[Token]) -> bool:

@@ -41,6 +41,7 @@ from ._stream import Reading, Stream, describe
 from ._symbols import Base, FunctionName, Script, SymbolReading
 from .errors import ParseError
 from .nodes import Node
+from .relations import bracket_change
 from .tokens import Token, TokenKind, tokenize
 from .vocabulary import (
     AMBIGUITY_RULES,
@@ -460,6 +461,15 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
                     "scripts before its argument, which is not read",
                     node.span,
                 )
+            comma = self._top_comma()
+            if comma is not None:
+                raise self.s.error(
+                    f"',' at {self.s.where(comma.span)} in '{self.s.text_of(node.span.join(self._paren_end()))}': "
+                    f"a list of arguments, but {node.name} is not a function here; declare it "
+                    f"(directive `function {node.name}`) or define it ({node.name}(a, b) = …), or write a product "
+                    "without the comma",
+                    comma.span,
+                )
             self.note(
                 "undeclared-product", node.span.join(self._paren_end()),
                 f"product ({node.name} is not declared a function)",
@@ -467,6 +477,18 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
         elif func is not None and isinstance(node, (n.Symbol, n.Pow)):
             self.note("dual-role-symbol", node.span, f"{base.name} is a symbol here (no parenthesis follows)")
         return node
+
+    def _top_comma(self) -> Token | None:
+        """The first comma directly inside the parenthesis at the cursor (``f(a, b)``), if any."""
+        depth = 0
+        for i in range(self.s.pos, self.s.limit):
+            tok = self.s.tokens[i]
+            depth += bracket_change(tok)
+            if depth <= 0:
+                return None
+            if depth == 1 and tok.is_symbol(","):
+                return tok
+        return None
 
     def scripts_on(self, node: Node, start: int) -> Node:
         """Scripts on a non-symbol: a subscript selects a component (rule ``component``),

@@ -234,11 +234,14 @@ UNSUPPORTED: dict[str, str] = {
     "\\choose": "binomial coefficients are not read",
     "\\lfloor": "floor brackets are not read",
     "\\lceil": "ceiling brackets are not read",
+    "\\rfloor": "floor brackets are not read",
+    "\\rceil": "ceiling brackets are not read",
     "\\middle": "\\middle delimiters are not read",
     "\\underbrace": "\\underbrace is not read: write the expression without it",
     "\\overbrace": "\\overbrace is not read: write the expression without it",
     "\\overset": "\\overset is read only over a relation",
     "\\stackrel": "\\stackrel is read only over a relation",
+    "\\underset": "\\underset is read only under a relation",
     "\\ast": "'\\ast' between factors is not read (write \\cdot or juxtapose)",
     "\\star": "'\\star' between factors is not read (write \\cdot or juxtapose)",
 }
@@ -313,7 +316,7 @@ DROPPED = frozenset(
         "\\,", "\\;", "\\!", "\\:", "\\ ", "\\>", "\\quad", "\\qquad", "\\displaystyle",
         "\\textstyle", "\\scriptstyle", "\\scriptscriptstyle", "\\limits", "\\nolimits",
         "\\nonumber", "\\notag", "\\thinspace", "\\medspace", "\\thickspace", "\\negthinspace",
-        "\\enspace", "\\allowbreak", "\\relax", "\\hfill",
+        "\\enspace", "\\allowbreak", "\\relax", "\\hfill", "\\nobreak", "\\negmedspace", "\\negthickspace",
     }
 )
 
@@ -373,7 +376,9 @@ NORM_KINDS: dict[tuple[str, ...], str] = {
 RELATION_TEXTS = frozenset(
     {"=", "<", ">", "\\le", "\\leq", "\\ge", "\\geq", "\\neq", "\\ne", "\\approx", "\\simeq",
      "\\sim", "\\propto", "\\equiv", "\\coloneqq", "\\triangleq", "\\preceq", "\\succeq",
-     "\\prec", "\\succ", "\\in", "\\implies", "\\Rightarrow", "\\iff", "\\to", "\\mapsto"}
+     "\\prec", "\\succ", "\\in", "\\implies", "\\Rightarrow", "\\iff", "\\to", "\\mapsto",
+     "\\leqslant", "\\geqslant", "\\lt", "\\gt", "\\coloneq", "\\eqcolon", "\\eqqcolon",
+     "\\Longrightarrow", "\\Leftrightarrow", "\\Longleftrightarrow"}
 )
 
 
