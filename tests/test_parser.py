@@ -232,6 +232,23 @@ def test_every_error_names_its_place_as_at_column_n(title: str, text: str, expec
     assert not _OTHER_POSITION.search(message), message
 
 
+WHOLE_SIDE_ERRORS = [
+    ("empty", "", "the expression is empty (at column 1)"),
+    ("too-deep", "(" * (MAX_DEPTH + 20) + "x" + ")" * (MAX_DEPTH + 20), "nests deeper than"),
+    ("too-long", " + ".join(["x"] * 3000), "the expression at column 1 is too long to read"),
+]
+
+
+@pytest.mark.parametrize(("text", "part"), [c[1:] for c in WHOLE_SIDE_ERRORS], ids=[c[0] for c in WHOLE_SIDE_ERRORS])
+def test_errors_about_a_whole_side_name_a_column_too(text: str, part: str) -> None:
+    with pytest.raises(ParseError) as caught:
+        parse_latex(text)
+    message = caught.value.message
+    assert part in message
+    assert re.search(r"\bat column \d+", message), message
+    assert not _OTHER_POSITION.search(message), message
+
+
 def test_an_error_in_a_side_over_two_lines_says_at_column_n_of_its_own_line() -> None:
     # GIVEN a side that runs over two lines of a file, with an unread token on the second
     doc = "\\begin{equation}\n  y = a\n    + W^{2\\top} b\n\\end{equation}\n"

@@ -160,7 +160,8 @@ class CalculusReading:
             self.s.pos += mark[1]
             wrt.extend(self.variables())
         if not wrt:
-            raise self.s.error("the derivative's denominator names no variable", self.s.end_span())
+            span = self.s.end_span()
+            raise self.s.error(f"the derivative's denominator names no variable (at {self.s.where(span)})", span)
         return wrt
 
     def variables(self) -> list[n.Variable]:

@@ -126,7 +126,8 @@ class Stream:
         """
         tok = self.peek()
         if tok is None:
-            raise self.error("unexpected end of the expression", self.end_span())
+            span = self.end_span()
+            raise self.error(f"unexpected end of the expression at {self.where(span)}", span)
         self.pos += 1
         return tok
 
@@ -177,7 +178,7 @@ class Stream:
             if closer is not None:
                 what = f"unexpected {describe(closer)} at {self.where(closer.span)}"
             else:
-                what = "unexpected end of the expression"
+                what = f"unexpected end of the expression at {self.where(self.end_span())}"
             span = self.end_span()
         elif tok.kind is TokenKind.SYMBOL and tok.text in UNSUPPORTED_SYMBOLS:
             what = f"{UNSUPPORTED_SYMBOLS[tok.text]} (at {self.where(tok.span)})"

@@ -116,7 +116,10 @@ def read_side(tokens: Sequence[Token], vocabulary: Vocabulary, source: SourceTex
     """
     if len(tokens) > MAX_TOKENS:
         span = tokens[0].span.join(tokens[-1].span)
-        raise ParseError(f"the expression is too long to read ({len(tokens)} tokens; the limit is {MAX_TOKENS})", source, span)
+        raise ParseError(
+            f"the expression at {_where(source, span)} is too long to read ({len(tokens)} tokens; the limit is {MAX_TOKENS})",
+            source, span,
+        )
     try:
         with _recursion_room(MAX_DEPTH * _FRAMES_PER_LEVEL):
             reader = Reader(tokens, vocabulary, source)
@@ -125,13 +128,15 @@ def read_side(tokens: Sequence[Token], vocabulary: Vocabulary, source: SourceTex
         raise
     except RecursionError as exc:
         span = tokens[0].span if tokens else Span(0, 0)
-        raise ParseError("the expression nests too deeply to read", source, span) from exc
+        raise ParseError(f"the expression at {_where(source, span)} nests too deeply to read", source, span) from exc
     except Exception as exc:  # leniency for users, strictness under test (STYLE "Diagnostics")
         if STRICT:
             raise
         logger.exception("internal error while reading math")
         span = tokens[0].span.join(tokens[-1].span) if tokens else Span(0, 0)
-        raise ParseError(f"the expression could not be read (internal error: {exc!r})", source, span) from exc
+        raise ParseError(
+            f"the expression at {_where(source, span)} could not be read (internal error: {exc!r})", source, span
+        ) from exc
     return SideReading(node, tuple(reader.readings))
 
 
@@ -155,12 +160,17 @@ def read_latex(text: str, vocabulary: Vocabulary | None = None) -> SideReading:
         where = f" (at column {source.position(exc.span.start).column})" if exc.span is not None else ""
         raise ParseError(exc.message + where, source, exc.span) from exc
     except RecursionError as exc:
-        raise ParseError("the math nests too deeply to read", source, Span(0, min(1, len(text)))) from exc
+        raise ParseError("the math at column 1 nests too deeply to read", source, Span(0, min(1, len(text)))) from exc
     except Exception as exc:  # pylatexenc on hostile input
         if STRICT:
             raise
-        raise ParseError(f"the math could not be tokenized ({exc})", source, Span(0, min(1, len(text)))) from exc
+        raise ParseError(f"the math at column 1 could not be tokenized ({exc})", source, Span(0, min(1, len(text)))) from exc
     return read_side(tokens, vocabulary or Vocabulary(), source)
+
+
+def _where(source: SourceText | None, span: Span) -> str:
+    """``column N`` of a span's start (the reader's one position format), ``offset N`` without a source."""
+    return f"column {source.position(span.start).column}" if source is not None else f"offset {span.start}"
 
 
 @contextmanager
@@ -207,7 +217,8 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
     def read(self) -> Node:
         """side := expression END"""
         if self.s.at_end():
-            raise self.s.error("the expression is empty", self.s.end_span())
+            span = self.s.end_span()
+            raise self.s.error(f"the expression is empty (at {self.s.where(span)})", span)
         node = self.expression()
         if not self.s.at_end():
             raise self.s.unexpected(self.s.peek())
