@@ -135,6 +135,26 @@ def test_an_ambiguous_shape_is_a_scalar_with_one_note():
     assert context.plans[0].context.shapes.symbols["c"] == ()
 
 
+def test_a_plain_symbol_stated_positive_is_a_scalar_without_a_note():
+    # a soil-probe covariance K = a C + b I with weights a, b > 0; c has no statement, and
+    # its derivative is where its shape mattered, so only c is noted
+    text = (
+        "$C \\in \\mathbb{S}^{n}_{++}$, weights $a > 0$ and $b > 0$\n\n"
+        "$$\nK = a\\,C + b\\,I + c\\,I\n$$\n\n"
+        "$$\n\\frac{\\partial K}{\\partial a} = C\n$$\n\n"
+        "$$\n\\frac{\\partial K}{\\partial b} = I\n$$\n\n"
+        "$$\n\\frac{\\partial K}{\\partial c} = I\n$$\n"
+    )
+    context = document_context(text)
+    assert [n.message for n in context.notes if "ambiguous" in n.message] == [
+        "shape of c is ambiguous; taken as a scalar"
+    ]
+    shapes = context.plans[0].context.shapes.symbols
+    assert shapes["a"] == shapes["b"] == shapes["c"] == ()
+    assert context.origins["b"].describe() == "from the assumption on line 1 (`b > 0`)"
+    assert all(p.findings == () for p in context.plans)
+
+
 def test_a_lowercase_factor_written_before_a_matrix_is_a_scalar_without_a_note():
     # common practice: scalar factors are written first (\lambda I, \mu U)
     context = document_context("$X \\in \\mathbb{R}^{n\\times d}$\n\n$$\nY = \\lambda X\n$$\n")

@@ -25,7 +25,7 @@ from ..diagnostics import Diagnostic
 from ..expressions import nodes as n
 from ..source import SourceText
 from .declarations import SQUARE_KINDS
-from .model import Assumption, Declaration, ShapeTable, StepOptions
+from .model import Assumption, AssumptionKind, Declaration, ShapeTable, StepOptions
 from .options import Note
 
 logger = logging.getLogger(__name__)
@@ -82,7 +82,7 @@ def infer_shapes(
     settled = [u for u in units if u.defines is not None or u.assumes]
     _settle(env, settled)
     _settle(env, units)
-    _default_shapes(env, scalars=False)
+    _default_shapes(env, scalars=False, signed=_signed(assumptions))
     _settle(env, settled)
     _settle(env, units)
     notes.extend(_default_shapes(env, scalars=True))
@@ -136,14 +136,28 @@ def _is_capital(name: str) -> bool:
     return bool(base) and base[0].isupper()
 
 
-def _default_shapes(env: ShapeEnv, scalars: bool) -> list[Note]:
+def _signed(assumptions: Iterable[Assumption]) -> dict[str, Assumption]:
+    """Plain symbols stated positive or nonnegative (``b > 0``), by name (first statement)."""
+    found: dict[str, Assumption] = {}
+    for assumption in assumptions:
+        if assumption.kind in (AssumptionKind.POSITIVE, AssumptionKind.NONNEGATIVE):
+            found.setdefault(assumption.name, assumption)
+    return found
+
+
+def _default_shapes(env: ShapeEnv, scalars: bool, signed: Mapping[str, Assumption] | None = None) -> list[Note]:
     """Give the still unknown symbols a shape: first the bold and square ones, then (with
-    ``scalars``) everything else a scalar, noting those whose shape mattered."""
+    ``scalars``) everything else a scalar, noting those whose shape mattered.  A plain
+    (not bold) symbol stated positive (``b > 0``) is a scalar by that statement, without a
+    note: a weight written so is a number (common practice)."""
     notes: list[Note] = []
     for entry in env.table.values():
         if entry.shape is not None:
             continue
-        if not scalars:
+        stated = (signed or {}).get(entry.name)
+        if not scalars and stated is not None and not entry.bold:
+            env.bind(entry, (), Origin(stated.source, stated.span, "assumed"))
+        elif not scalars:
             _default_kind(env, entry)
         elif entry.used or not entry.scalar_set:
             how = "ambiguous" if entry.ambiguous else "scalar"
