@@ -144,3 +144,12 @@ def test_expanded_math_reads_back_to_the_same_tokens(latex):
     tokens = tokenize(latex)
     again = tokenize(tokens_latex(tokens))
     assert [(t.kind, t.text) for t in again] == [(t.kind, t.text) for t in tokens]
+
+
+def test_a_relation_that_is_reported_not_checked_is_skipped_even_when_unreadable():
+    # SPEC §3: \approx, \simeq, \sim, \propto are reported, not checked; a distribution such as
+    # \mathcal{N}(0, 1) on the right need not be readable, and indices are not checked either.
+    doc = "\\[ \\theta \\sim \\mathcal{N}(0, 1) \\]\n\\[ a_i \\approx b_j \\]\n\\[ y \\propto x \\]\n"
+    report = pipeline.check_text(doc, "tex", Settings())
+    assert [(s.line, s.verdict.value) for s in report.steps()] == [(1, "skipped"), (2, "skipped"), (3, "skipped")]
+    assert report.steps()[0].outcome.message == "relation \\sim is reported, not checked"

@@ -150,6 +150,9 @@ def _decide(plan: StepPlan, settings: Settings, cache: StepCache | None = None) 
     step = plan.step
     if step.skipped:
         return Outcome(Verdict.SKIPPED, message="skipped by a directive")
+    if step.relation.kind is RelationKind.APPROX:
+        # reported, not checked (SPEC §3): its sides need not be readable either
+        return Outcome(Verdict.SKIPPED, message=f"relation {step.relation.text} is reported, not checked")
     if plan.parse_error is not None:
         message, span = plan.parse_error
         return Outcome(Verdict.PARSE_ERROR, message=message, column=span.start)
@@ -167,8 +170,6 @@ def _decide(plan: StepPlan, settings: Settings, cache: StepCache | None = None) 
         return Outcome(
             Verdict.DEFINES, message=f"assumes {plan.assumes.name} is {plan.assumes.kind.value}"
         )
-    if relation is RelationKind.APPROX:
-        return Outcome(Verdict.SKIPPED, message=f"relation {step.relation.text} is reported, not checked")
     key = step_key(plan.lhs, plan.rhs, step.relation.text, plan.context, settings) if cache else None
     if cache is not None and key is not None:
         stored = cache.get(key)
