@@ -45,3 +45,21 @@ def test_a_line_without_a_step_is_a_clear_error(doc):
     with pytest.raises(InputError) as caught:
         explain_line(str(doc), 3)
     assert "no step is reported on this line; steps stand on lines 5, 6" in str(caught.value)
+
+
+def test_explain_math_with_a_relation_explains_the_step():
+    from stepcheck.explain import explain_math
+
+    text = explain_math(r"(\mathbf{a}^\top \mathbf{b})^2 = \mathbf{a}^\top \mathbf{b}\mathbf{b}^\top \mathbf{a}")
+    assert text.startswith("step 1.1 at 1:34: ")
+    assert "left side `(\\mathbf{a}^\\top \\mathbf{b})^2`:" in text
+    assert "verdict: holds" in text
+
+
+def test_explain_math_of_an_unreadable_step_names_the_column():
+    from stepcheck.expressions.errors import ParseError
+    from stepcheck.explain import explain_math
+
+    with pytest.raises(ParseError) as caught:
+        explain_math("a = {b")
+    assert str(caught.value) == "<math>:1:5: unclosed '{': no matching '}'"

@@ -23,17 +23,42 @@ if TYPE_CHECKING:
     from .context.build import StepPlan
 
 
-def explain_math(latex: str, vocabulary: Vocabulary | None = None) -> str:
+def explain_math(latex: str, vocabulary: Vocabulary | None = None, settings: Settings | None = None) -> str:
     """Explain how ``latex`` is read.
 
-    :param latex: one expression (one side of a step), without ``$`` delimiters.
-    :param vocabulary: the names a document would declare (functions, labels, dimensions …).
+    An expression gets its tree, tensors, readings and canonical form. A snippet with a
+    relation (``(AB)^\\top = B^\\top A^\\top``) is read as a one-display document and each
+    of its steps is explained like ``explain FILE:LINE`` does (indices, shapes, sympy form,
+    verdict).
+
+    :param latex: math without ``$`` delimiters.
+    :param vocabulary: the names a document would declare (functions, labels, dimensions …);
+        used for a single expression.
     :raises ParseError: the snippet cannot be read (its message names the column).
     :returns: the explanation, several lines, no trailing newline.
     """
-    reading = read_latex(latex, vocabulary)
     source = SourceText("<math>", latex)
-    return "\n".join(explain_reading(reading, source))
+    plans, origins = _snippet_plans(source, settings or Settings())
+    if not plans:
+        reading = read_latex(latex, vocabulary)
+        return "\n".join(explain_reading(reading, source))
+    return _explain_plans(plans, origins, settings or Settings())
+
+
+def _snippet_plans(source: SourceText, settings: Settings) -> tuple[list[StepPlan], object]:
+    """The steps of a snippet read as one display (none when it holds no relation)."""
+    from .context.build import build_context
+    from .documents.model import BlockKind, Document, Excerpt, MathBlock
+    from .expressions.splitting import structure_of
+
+    text = source.text
+    block = MathBlock(BlockKind.DISPLAY, "\\[", source, Excerpt.contiguous(text, 0, len(text)), Span(0, len(text)), 0)
+    structure = structure_of(Document(source.path, "tex", (block,), (), ()))
+    if structure.unreadable:
+        first = structure.unreadable[0]
+        raise ParseError(first.message, source, first.span)
+    context = build_context(structure, settings)
+    return list(context.plans), context.origins
 
 
 def explain_reading(reading: SideReading, source: SourceText) -> list[str]:
@@ -98,8 +123,6 @@ def explain_line(path: str, line: int, settings: Settings | None = None) -> str:
     :raises InputError: the file cannot be read, or no step stands on that line.
     :returns: the explanation, several lines.
     """
-    from . import pipeline
-    from .checks.describe import plan_lines
     from .context.build import build_context
     from .documents import InputError, discover, read_path
     from .expressions.splitting import structure_of
@@ -115,9 +138,17 @@ def explain_line(path: str, line: int, settings: Settings | None = None) -> str:
         nearby = sorted({_line_of(p) for p in context.plans if p.step.source.path == wanted})
         hint = f"; steps stand on lines {_some(nearby, line)}" if nearby else "; the file has no steps"
         raise InputError(f"{wanted}:{line}: no step is reported on this line{hint}")
+    return _explain_plans(plans, context.origins, settings)
+
+
+def _explain_plans(plans: Sequence[StepPlan], origins: object, settings: Settings) -> str:
+    """Every stage's view of each planned step, and its verdict."""
+    from . import pipeline
+    from .checks.describe import plan_lines
+
     out: list[str] = []
     for plan in plans:
-        out.extend(plan_lines(plan, context.origins))
+        out.extend(plan_lines(plan, origins))  # type: ignore[arg-type]
         out.extend(_reading_lines(plan))
         if plan.lhs is not None and plan.rhs is not None and plan.parse_error is None:
             from .evaluation.describe import describe_step
