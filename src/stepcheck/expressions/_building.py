@@ -63,7 +63,8 @@ class SymbolBuilding:
             split = self.split_label(item)
             if split is not None:
                 sup_label, rest = split
-                symbol_span = symbol_span.join(self.s.tokens[item.start - 1].span).join(self.s.tokens[rest.start - 1].span)
+                # The labelled symbol has no text of its own without the mark: it takes the whole script.
+                symbol_span = symbol_span.join(item.span)
                 self.note("label-then-mark", item.span, f"^{{{sup_label}}} is part of the name; the rest applies to the labelled symbol")
                 item = rest
             kind, label = self.sup_kind(item)
