@@ -144,6 +144,17 @@ def test_a_definition_keeps_its_own_rows_no_sum_mark():
     assert second.defines is not None and second.defines.no_sum is False
 
 
+def test_a_no_sum_definition_is_differentiated_elementwise():
+    # a fouling network's gated layer: q_j = (1 - a_j) sum_i W_ij d_i, read elementwise in j,
+    # so dq_j/dd_i = (1 - a_j) W_ij (sympy.diff of the written sum, component by component)
+    text = (
+        "\\[ q_j = (1 - a_j)\\sum_{i} W_{ij} d_i \\quad\\text{(no sum)} \\]\n"
+        "\\[ \\frac{\\partial q_j}{\\partial d_i} = (1 - a_j) W_{ij} \\quad\\text{(no sum)} \\]\n"
+    )
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.DEFINES, Verdict.HOLDS]
+
+
 def test_summation_explicit_in_force_marks_a_definition_no_sum():
     text = "<!-- stepcheck: summation explicit -->\n\n$$\nu_k = a_k b_k\n$$\n"
     plan = document_context(text).plans[0]
