@@ -155,7 +155,8 @@ def _decide(plan: StepPlan, settings: Settings, cache: StepCache | None = None) 
         return Outcome(Verdict.SKIPPED, message=f"relation {step.relation.text} is reported, not checked")
     if plan.parse_error is not None:
         message, span = plan.parse_error
-        return Outcome(Verdict.PARSE_ERROR, message=message, column=span.start)
+        verdict = Verdict.UNSUPPORTED if plan.refused else Verdict.PARSE_ERROR
+        return Outcome(verdict, message=message, column=span.start)
     assert plan.lhs is not None and plan.rhs is not None
     relation = step.relation.kind
     if plan.findings:

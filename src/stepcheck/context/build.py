@@ -52,6 +52,10 @@ class StepPlan:
     """Set when this step states an assumption (``A = A^\\top``): verdict ``defines``."""
     findings: tuple[Diagnostic, ...] = ()
     """Problems the context stage found for this step (shape errors …)."""
+    refused: bool = False
+    """The side that could not be read holds a construct the tool knows but does not check
+    (:class:`~stepcheck.expressions.errors.UnsupportedConstruct`): ``unsupported``, not
+    ``parse-error``."""
 
 
 @dataclass(frozen=True, slots=True)
