@@ -93,6 +93,9 @@ class Val:
     """``0`` or ``\\mathbf{0}``: fits any shape."""
     ref: str | None = None
     """The name of an unknown bare symbol (so a use can teach its shape)."""
+    inverse_of: str | None = None
+    """The name of an unknown bare symbol whose inverse (or inverse transpose) this is
+    (``C^{-1}``): a square matrix or a scalar, so a matrix beside it tells its size."""
 
 
 UNKNOWN = Val(None)

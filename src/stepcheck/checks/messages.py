@@ -121,6 +121,13 @@ class ShapeSides(ShapeError):
     template = "the sides have different shapes: left ({0}), right ({1})"
 
 
+#: Hint of a step whose sides have transposed shapes (args: left shape, right shape).
+TRANSPOSED_SIDES = (
+    "the sides agree in shape after a transpose: the left side is ({0}) and the right side ({1}); "
+    "a transpose is missing or extra on one side"
+)
+
+
 class ShapeRank(ShapeError):
     """args: symbol, known shape, where it is known, count written, text, column."""
 

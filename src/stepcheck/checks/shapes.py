@@ -38,6 +38,32 @@ def _has_derivative(*trees: n.Node) -> bool:
     return any(isinstance(x, (n.Derivative, n.Gradient)) for tree in trees for x in tree.walk())
 
 
+def _occurrence(node: n.Node) -> str | None:
+    """The symbol a factor is, transposed or inverted or not (``C``, ``C^\\top``,
+    ``C^{-1}``, ``C^{-\\top}``); None for anything else."""
+    if isinstance(node, n.Transpose):
+        node = node.operand
+    if isinstance(node, n.Pow) and _is_minus_one(node.exponent):
+        node = node.base
+    return node.name if isinstance(node, n.Symbol) and not node.subs else None
+
+
+def _bare_name(node: n.Node) -> str | None:
+    if isinstance(node, n.Neg):
+        node = node.operand
+    return node.name if isinstance(node, n.Symbol) and not node.subs else None
+
+
+def _self_transpose(lhs: n.Node, rhs: n.Node) -> str | None:
+    """The symbol of a step ``A = A^\\top`` or ``A^\\top = -A``; None for any other step."""
+    for a, b in ((lhs, rhs), (rhs, lhs)):
+        inner = b.operand if isinstance(b, n.Neg) else b
+        name = _bare_name(a)
+        if name is not None and isinstance(inner, n.Transpose) and _bare_name(inner.operand) == name:
+            return name
+    return None
+
+
 def _is_minus_one(node: n.Node) -> bool:
     if isinstance(node, n.Number):
         return node.value == -1
@@ -114,6 +140,9 @@ class StepShapes:
         if left.wild or right.wild:
             return
         if left.shape is None or right.shape is None:
+            mirrored = _self_transpose(lhs, rhs)
+            if mirrored is not None and mirrored in self.env.table:
+                self.env.table[mirrored].square = True  # A = A^\top (a claim): only a square A can
             if left.shape is not None:
                 self.expect(rhs, left.shape)
             elif right.shape is not None:
@@ -129,12 +158,15 @@ class StepShapes:
         flipped = self.env.transposed(left.shape)
         if flipped is not None and _has_derivative(lhs, rhs) and self.dims.unify_shapes(flipped, right.shape):
             return  # a derivative equal after a transpose: a layout question, the evaluator hints
+        hint = None
+        if flipped is not None and self.dims.can_unify_shapes(flipped, right.shape):
+            hint = m.TRANSPOSED_SIDES.format(self.env.text(left.shape), self.env.text(right.shape))
         if isinstance(lhs, n.Symbol) and not lhs.subs:
             entry = self.env.table.get(lhs.name)
             if entry is not None and entry.origin is not None and entry.origin.line != self._line(rhs.span):
-                self._conflict(lhs.name, entry, right.shape, rhs.span)
+                self._conflict(lhs.name, entry, right.shape, rhs.span, hint)
                 return
-        self._error(m.ShapeSides, rhs.span, self.env.text(left.shape), self.env.text(right.shape))
+        self._error(m.ShapeSides, rhs.span, self.env.text(left.shape), self.env.text(right.shape), hint=hint)
 
     def expect(self, node: n.Node, shape: Ids) -> None:
         """Teach unknown symbols in ``node`` the shape ``node`` must have."""
@@ -153,6 +185,49 @@ class StepShapes:
                 self.expect(term, shape)
         elif isinstance(node, n.Apply) and node.func in ELEMENTWISE and node.args:
             self.expect(node.args[0], shape)
+        elif isinstance(node, n.Div):
+            self.expect(node.numerator, shape)  # the denominator is a scalar
+        elif isinstance(node, n.Pow):
+            self.expect(node.base, shape)  # a power (of a scalar exponent) keeps its base's shape
+        elif isinstance(node, n.Mul):
+            self._expect_product(node.factors, shape)
+
+    def _expect_product(self, factors: tuple[n.Node, ...], shape: Ids) -> None:
+        """Teach the unknown factors of a product that must have ``shape``.
+
+        Beside factors known to be scalars, one unknown factor has the product's shape
+        (``\\tfrac{\\lambda}{2}\\|\\mathbf{w}\\|^2`` is a scalar, so \\lambda is).  When every
+        unknown factor is one symbol (``C C^\\top``, ``C^{-1} C^{-\\top}``) and the product must
+        be a vector or a matrix, that symbol is not a scalar: a capital is a matrix, anything
+        else a vector, of sizes the next reading of the product ties.
+        """
+        vals = [self._quietly(factor) for factor in factors]
+        unknown = [k for k, v in enumerate(vals) if v.shape is None and not v.wild]
+        if not unknown or any(v.wild for v in vals):
+            return
+        if not all(v.shape is None or self.env.is_scalar(v.shape) for v in vals):
+            return
+        if len(unknown) == 1:
+            self.expect(factors[unknown[0]], shape)
+            return
+        names = {_occurrence(factors[k]) for k in unknown}
+        if len(names) != 1 or None in names or self.env.is_scalar(shape):
+            return
+        name = names.pop()
+        assert name is not None
+        entry = self.env.table.get(name)
+        if entry is None or entry.shape is not None or entry.family is not None or name in self.env.dimensions:
+            return
+        size = (self.dims.fresh(), self.dims.fresh()) if _is_capital(name) else (self.dims.fresh(),)
+        self.env.bind(entry, size, Origin(self.source, entry.first.span, "inferred"))
+
+    def _quietly(self, node: n.Node) -> Val:
+        """The shape of ``node``, reporting nothing (it was read, and reported, already)."""
+        report, self.report = self.report, False
+        try:
+            return self.visit(node)
+        finally:
+            self.report = report
 
     # ------------------------------------------------------------------ helpers
 
@@ -165,19 +240,19 @@ class StepShapes:
     def _line(self, span: Span) -> int:
         return self.source.position(span.start).line
 
-    def _error(self, cls: type[m.ShapeError], span: Span, *args: object) -> None:
+    def _error(self, cls: type[m.ShapeError], span: Span, *args: object, hint: str | None = None) -> None:
         if self.report:
-            self.errors.append(cls(span, args))
+            self.errors.append(cls(span, args, hint))
 
     def _at(self, cls: type[m.ShapeError], node: n.Node, *args: object) -> None:
         """An error whose message ends with the node's text and column."""
         self._error(cls, node.span, *args, self._text(node.span), self._column(node.span))
 
-    def _conflict(self, name: str, entry: Entry, other: Ids, span: Span) -> None:
+    def _conflict(self, name: str, entry: Entry, other: Ids, span: Span, hint: str | None = None) -> None:
         assert entry.origin is not None and entry.shape is not None
         self._error(
             m.ShapeConflict, span, name, self.env.text(entry.shape), entry.origin.line,
-            self.env.text(other), self._line(span),
+            self.env.text(other), self._line(span), hint=hint,
         )
 
     def _has_free_indices(self, node: n.Node) -> bool:
@@ -376,6 +451,9 @@ class StepShapes:
         A plain lowercase symbol written before a matrix (``\\lambda X``) is read as a
         scalar factor without a note: scalars are written first (common practice)."""
         for unknown, known, right in ((a, b, False), (b, a, True)):
+            if unknown.inverse_of is not None and known.shape is not None and not self.env.is_scalar(known.shape):
+                self._learn_inverse(unknown.inverse_of, known.shape, right)
+                continue
             if unknown.ref is None or known.shape is None or self.env.is_scalar(known.shape):
                 continue
             entry = self.env.table[unknown.ref]
@@ -392,6 +470,20 @@ class StepShapes:
             else:
                 continue
             self.env.bind(entry, shape, Origin(self.source, entry.first.span, "bold" if entry.bold else "inferred"))
+
+    def _learn_inverse(self, name: str, known: Ids, right: bool) -> None:
+        """``C^{-1}\\mathbf{v}``, ``A C^{-1}``: an inverse is square, so a plain capital written
+        inverted beside a matrix or vector is the square matrix that conforms (a scalar
+        written so is lowercase, common practice)."""
+        entry = self.env.table[name]
+        capital = _is_capital(name)
+        if right or capital or entry.bold:
+            entry.ambiguous = True  # as for any unknown factor (see _learn_factor)
+        view = self.env.matrix(known)
+        if view is None or entry.bold or not capital or name in self.env.dimensions:
+            return
+        size = view[1] if right else view[0]
+        self.env.bind(entry, (size, size), Origin(self.source, entry.first.span, "inferred"))
 
     def _dot(self, node: n.Node) -> Val:
         assert isinstance(node, n.Dot)
@@ -470,9 +562,11 @@ class StepShapes:
                 return Val(exponent.shape)  # e^{x}: the exponential, entry by entry
             self.operand_error(node.exponent, "a power", "a scalar exponent", exponent.shape)
             return UNKNOWN
+        inverse = _is_minus_one(node.exponent)
+        if base.shape is None and inverse and base.ref is not None:
+            return Val(None, inverse_of=base.ref)
         if base.shape is None or self.env.is_scalar(base.shape):
             return Val(base.shape, number=base.number and exponent.number)
-        inverse = _is_minus_one(node.exponent)
         if self.env.vector_length(base.shape) is not None:
             if inverse:
                 self.operand_error(node.base, "an inverse", "a square matrix or a scalar", base.shape)
@@ -489,7 +583,7 @@ class StepShapes:
         if inner.shape is None:
             if inner.ref is not None:
                 self.env.table[inner.ref].ambiguous = True
-            return Val(None, wild=inner.wild)
+            return Val(None, wild=inner.wild, inverse_of=inner.inverse_of)  # C^{-\top}: square too
         flipped = self.env.transposed(inner.shape)
         if flipped is None:
             self.operand_error(node.operand, "a transpose", "a vector or a matrix", inner.shape)
