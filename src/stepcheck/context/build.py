@@ -13,13 +13,13 @@ from __future__ import annotations
 import dataclasses
 import logging
 from dataclasses import dataclass, field
-from typing import Mapping, Sequence
+from typing import Callable, Mapping, Sequence
 
 from ..checks import messages as mm
 from ..checks.indices import check_indices
 from ..diagnostics import Diagnostic
 from ..expressions.chains import Chain, Step, Structure
-from ..expressions.errors import ParseError
+from ..expressions.errors import ParseError, UnsupportedConstruct
 from ..expressions.nodes import Node
 from ..expressions.tokens import Token
 from ..settings import Settings
@@ -90,6 +90,9 @@ class ReadChain:
     vocabulary: Vocabulary
     trees: tuple[Node | None, ...]
     errors: tuple[tuple[str, Span] | None, ...]
+    refused: tuple[bool, ...] = ()
+    """Per side: its error is an :class:`UnsupportedConstruct` (a construct the tool knows
+    but does not check)."""
 
 
 def _reader(vocabulary: Vocabulary):
@@ -105,14 +108,17 @@ def _read_chain(chain: Chain, display: bool, options: StepOptions, vocabulary: V
     read = _reader(vocabulary)
     trees: list[Node | None] = []
     errors: list[tuple[str, Span] | None] = []
+    refused: list[bool] = []
     for side in chain.sides:
         try:
             trees.append(read(side.tokens, chain.source))
             errors.append(None)
+            refused.append(False)
         except ParseError as exc:
             trees.append(None)
             errors.append((exc.message, exc.span or side.span))
-    return ReadChain(chain, display, options, vocabulary, tuple(trees), tuple(errors))
+            refused.append(isinstance(exc, UnsupportedConstruct))
+    return ReadChain(chain, display, options, vocabulary, tuple(trees), tuple(errors), tuple(refused))
 
 
 def _read_all(structure: Structure, timeline: OptionTimeline, vocabulary: Vocabulary) -> list[ReadChain]:
@@ -228,7 +234,25 @@ def _taught(vocabulary: Vocabulary, definitions: Sequence[Definition]) -> Vocabu
 # --------------------------------------------------------------------------- planning
 
 
-def _assumption(item: ReadChain, index: int) -> Assumption | None:
+def _defined_elsewhere(definitions: Mapping[StepKey, Definition]) -> Callable[[str, StepKey], bool]:
+    """Whether a name has a definition other than the one a given step states."""
+    keys: dict[str, set[StepKey]] = {}
+    for key, definition in definitions.items():
+        keys.setdefault(definition.name, set()).add(key)
+    return lambda name, key: bool(keys.get(name, set()) - {key})
+
+
+def _assumption(
+    item: ReadChain, index: int, defined: Callable[[str, StepKey], bool] | None = None
+) -> Assumption | None:
+    """The assumption a step states (``A = A^\\top``, ``\\ell \\ge 0`` …), or None.
+
+    A form of SPEC §5 is an assumption only about an input: about a symbol with a
+    definition in force (``defined``: anywhere in the file, as a use takes the nearest
+    preceding definition, else the nearest following; the step's own definition, as in
+    ``D = \\operatorname{diag}(\\mathbf{d})``, aside) there is nothing to assume, and the
+    step is a claim to check like any other.
+    """
     lhs, rhs = item.trees[index - 1], item.trees[index]
     if lhs is None or rhs is None:
         return None
@@ -236,7 +260,7 @@ def _assumption(item: ReadChain, index: int) -> Assumption | None:
     if relation.kind not in (RelationKind.EQUAL, RelationKind.ORDER, RelationKind.LOEWNER):
         return None
     stated = assumption_of(lhs, rhs, relation.text)
-    if stated is None:
+    if stated is None or (defined is not None and defined(stated[0], _key(item.chain, index))):
         return None
     span = item.chain.sides[index - 1].span.join(item.chain.sides[index].span)
     return Assumption(stated[0], stated[1], item.chain.source, span)
@@ -245,6 +269,7 @@ def _assumption(item: ReadChain, index: int) -> Assumption | None:
 def _units(
     read: Sequence[ReadChain], definitions: Mapping[StepKey, Definition], assumed: Mapping[StepKey, Assumption]
 ) -> list[Unit]:
+    defined = _defined_elsewhere(definitions)
     units: list[Unit] = []
     for item in read:
         for index in range(1, len(item.chain.sides)):
@@ -255,7 +280,7 @@ def _units(
             definition = definitions.get(key)
             # W = diag(w) both defines and assumes: its sides are compared like any
             # definition's, so W takes the diag's square shape
-            assumes = definition is None and (key in assumed or _assumption(item, index) is not None)
+            assumes = definition is None and (key in assumed or _assumption(item, index, defined) is not None)
             units.append(
                 Unit(
                     key, lhs, rhs, item.chain.source, item.options, item.display,
@@ -291,6 +316,7 @@ def _plan(item: ReadChain, index: int, doc: _Document) -> StepPlan:
     key = _key(chain, index)
     lhs, rhs = item.trees[index - 1], item.trees[index]
     error = item.errors[index - 1] or item.errors[index]
+    refused = bool(item.refused) and item.refused[index - 1 if item.errors[index - 1] is not None else index]
     own = doc.definitions.get(key)
     in_force = doc.scope.in_force(defs.position_of(chain, index), own)
     context = StepContext(
@@ -311,7 +337,10 @@ def _plan(item: ReadChain, index: int, doc: _Document) -> StepPlan:
         cycle = _cycle_finding(lhs, rhs, in_force, step.rhs.span)
         if cycle is not None:
             findings.append(cycle)
-    return StepPlan(step, lhs, rhs, error if (lhs is None or rhs is None) else None, context, own, assumes, tuple(findings))
+    unread = lhs is None or rhs is None
+    return StepPlan(
+        step, lhs, rhs, error if unread else None, context, own, assumes, tuple(findings), refused=unread and refused
+    )
 
 
 def _homes(
@@ -367,12 +396,13 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
         definitions = _collect_definitions(read)
     kept = set(map(id, defs.prefer_display(list(definitions.values()))))
     definitions = {k: d for k, d in definitions.items() if id(d) in kept}
+    defined = _defined_elsewhere(definitions)
     step_assumptions = {
         _key(item.chain, index): found
         for item in read
         if item.display
         for index in range(1, len(item.chain.sides))
-        if (found := _assumption(item, index)) is not None
+        if (found := _assumption(item, index, defined)) is not None
     }
     assumptions = list(facts.assumptions) + list(step_assumptions.values())
     inference = infer_shapes(_units(read, definitions, step_assumptions), facts.declarations, assumptions, vocabulary.dimensions, sizes)
@@ -387,4 +417,5 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
         for index in range(1, len(item.chain.sides))
     ]
     notes = [ContextNote(n.source, n.span, n.message) for n in (*timeline.notes, *facts.notes, *inference.notes)]
+    notes.extend(ContextNote(d.source, d.span, defs.value_note(d)) for d in defs.value_definitions(doc.scope))
     return DocumentContext(tuple(plans), tuple(notes), dict(inference.origins))

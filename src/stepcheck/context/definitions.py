@@ -224,6 +224,36 @@ def reaches(name: str, body: n.Node, definitions: Mapping[str, Definition]) -> b
     return False
 
 
+def value_definitions(scope: Scope) -> list[Definition]:
+    """Definitions of a function by one application whose right side does not use the
+    argument, directly or through the definitions in force there
+    (``\\operatorname{Cov}(\\mathbf{g}) = \\Sigma``, but not ``J(\\theta) = \\tfrac12
+    \\mathbf{r}^\\top\\mathbf{r}`` with ``\\mathbf{r}`` defined from \\theta): SPEC §4 reads
+    them as definitions, so every application takes that one value — worth a note.  The
+    first such definition of each name, in document order."""
+    found: list[Definition] = []
+    for entries in scope.by_name.values():
+        for position, definition in entries:
+            if not definition.params:
+                continue
+            in_force = scope.in_force(position, definition)
+            params = [p.name for p in definition.params if isinstance(p, n.Symbol)]
+            if params and not any(reaches(name, definition.body, in_force) for name in params):
+                found.append(definition)
+                break
+    return sorted(found, key=lambda d: (d.order, d.span.start))
+
+
+def value_note(definition: Definition) -> str:
+    """``Cov is defined by its value at g …`` for a :func:`value_definitions` entry."""
+    names = [p.name if isinstance(p, n.Symbol) else "?" for p in definition.params]
+    at = names[0] if len(names) == 1 else "(" + ", ".join(names) + ")"
+    return (
+        f"{definition.name} is defined by its value at {at}: its right side does not use "
+        f"{'it' if len(names) == 1 else 'them'}, so every application of {definition.name} takes that value"
+    )
+
+
 def defines_by_relation(kind: RelationKind, form: Form | None) -> bool:
     """Whether a relation makes its step a definition whatever its place in the chain."""
     if form is None:
