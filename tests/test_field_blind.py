@@ -43,36 +43,14 @@ VERDICTS = {
 DOCUMENT_SUFFIXES = (".tex", ".md", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-_LAMBDA = (
-    "shape inference: the one wrong line `X^T S X + \\lambda` makes \\lambda a d x d matrix, so "
-    "the correct lines that use \\lambda as the scalar it is are blamed"
-)
-_C_SCALAR = (
-    "shape inference: C in the inline `\\Sigma = C C^T` is left 'ambiguous, scalar' although "
-    "\\Sigma is declared p x p and `C^{-1} v` fixes it; \\Sigma and P become scalars"
-)
 _MINUS_ROW = (
     "splitting: the row `-g^T v &= \\nu` is glued onto the row above as a continuation (SPEC §3 "
     "read literally: a row beginning with `-`), though it has its own relation"
 )
-_ASSUMED = (
-    "assumptions: an assumption form (`1^T p = 1`, `x \\ge 0`) about a symbol the file defines is "
-    "taken as an assumption (`defines`) instead of being checked"
-)
 
 KNOWN: dict[str, str] = {
-    "dock-lapse-logistic.md:61:17": _LAMBDA,
-    "dock-lapse-logistic.md:66:26": _LAMBDA,
-    "dock-lapse-logistic.md:68:28": _LAMBDA,
-    "turbine-vibration-mahalanobis.tex:24:16": _C_SCALAR,
-    "turbine-vibration-mahalanobis.tex:37:74": _C_SCALAR,
-    "turbine-vibration-mahalanobis.tex:41:21": _C_SCALAR,
-    "turbine-vibration-mahalanobis.tex:42:21": _C_SCALAR,
-    "turbine-vibration-mahalanobis.tex:61:23": _C_SCALAR + " (the wrong factor order passes)",
     "irrigation-pump-newton.tex:48:44": _MINUS_ROW,
     "irrigation-pump-newton.tex:49:16": _MINUS_ROW,
-    "depot-choice-softmax.tex:59:16": _ASSUMED,
-    "depot-choice-softmax.tex:61:46": _ASSUMED,
     "frost-forecast-elbo.md:43:39": (
         "sampling: a lower-triangular L is drawn with a zero diagonal entry, so log det(L L^T) is "
         "undefined; the gradient evaluates to 0 and a false 'fails' with a 'symmetric' hint follows"
