@@ -8,8 +8,10 @@ definition in force there is nothing to assume: the step is checked (``holds``/`
 Sources for the verdicts: softmax entries sum to one and logistic values lie in (0, 1), so
 their log is negative (textbook definitions of both functions); ``(B + B^\\top)^\\top = B +
 B^\\top`` and a Gram matrix ``R^\\top R`` is positive semidefinite (standard linear algebra,
-*The Matrix Cookbook*, Petersen & Pedersen 2012, §1 and §9 — recalled from memory); each
-claim's truth is re-derived with numpy in :func:`test_the_claims_are_what_numpy_says`.
+*The Matrix Cookbook*, Petersen & Pedersen 2012, §1 and §9 — recalled from memory); a
+Householder reflection ``I - 2\\mathbf{u}\\mathbf{u}^\\top/\\mathbf{u}^\\top\\mathbf{u}`` is
+orthogonal (textbook numerical linear algebra); each claim's truth is re-derived with numpy
+in :func:`test_the_claims_are_what_numpy_says`.
 Scenarios: a parcel-locker choice model, a pressure-sensor log-score, a bridge-cable
 stiffness matrix, a conveyor's load-cell covariance.
 """
@@ -42,13 +44,16 @@ CLAIMS = [
     ("symmetrised-is-symmetric", "A = B + B^\\top", "A = A^\\top", "holds"),
     ("skew-part-is-not-symmetric", "A = B - B^\\top", "A = A^\\top", "fails"),
     ("gram-is-psd", "G = R^\\top R", "G \\succeq 0", "holds"),
+    ("shifted-gram-is-pd", "\\Sigma = R R^\\top + I", "\\Sigma \\succ 0", "holds"),
+    ("reflection-is-orthogonal", "Q = I - \\frac{2}{\\mathbf{u}^\\top\\mathbf{u}}\\mathbf{u}\\mathbf{u}^\\top", "Q^\\top Q = I", "holds"),
+    ("unscaled-reflection-is-not", "Q = I - \\mathbf{u}\\mathbf{u}^\\top", "Q^\\top Q = I", "fails"),
 ]
 
 
 def _claim_document(definition: str, claim: str) -> str:
-    # cable stiffness B and strain gauges R, declared inline on line 1; definition on line 4,
-    # claim on line 8
-    declared = "$B \\in \\mathbb{R}^{3\\times 3}$, $R \\in \\mathbb{R}^{4\\times 3}$.\n\n"
+    # cable stiffness B, strain gauges R and a cable direction u, declared inline on line 1;
+    # definition on line 4, claim on line 8
+    declared = "$B \\in \\mathbb{R}^{3\\times 3}$, $R \\in \\mathbb{R}^{4\\times 3}$, $\\mathbf{u} \\in \\mathbb{R}^{3}$.\n\n"
     return declared + f"$$\n{definition}\n$$\n\n$$\n{claim}\n$$\n"
 
 
@@ -86,7 +91,10 @@ def test_the_claims_are_what_numpy_says():
     assert not np.isclose(logistic.sum(), 1) and np.isclose(softmax.sum(), 1)
     assert np.log(1 / (1 + np.exp(-t))) < 0 < -np.log(1 / (1 + np.exp(-t)))
     assert np.allclose(b + b.T, (b + b.T).T) and not np.allclose(b - b.T, (b - b.T).T)
-    assert np.linalg.eigvalsh(r.T @ r).min() > -1e-12
+    assert np.linalg.eigvalsh(r.T @ r).min() > -1e-12 and np.linalg.eigvalsh(r @ r.T + np.eye(4)).min() > 0
+    u = rng.normal(size=(3, 1))
+    householder, unscaled = np.eye(3) - 2 * u @ u.T / (u.T @ u), np.eye(3) - u @ u.T
+    assert np.allclose(householder.T @ householder, np.eye(3)) and not np.allclose(unscaled.T @ unscaled, np.eye(3))
 
 
 def test_a_definition_after_the_claim_also_makes_it_a_claim():
