@@ -28,21 +28,7 @@ VERDICTS = {"holds", "defines", "fails", "index-error", "shape-error", "skipped"
 DOCUMENT_SUFFIXES = (".tex", ".md", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-_METRIC = "index check/evaluator: raising or lowering an index with the metric is unsupported"
-
-KNOWN: dict[str, str] = {
-    "terrace-yield-ridge.md:66:31": (
-        "evaluator: `(X^T X)^{-1}` with X n x d is unsupported (singular draws) instead of trying "
-        "sizes with n > d"
-    ),
-    "tower-saddle-components.tex:16:22": _METRIC,
-    "tower-saddle-components.tex:16:35": _METRIC,
-    "tower-saddle-components.tex:20:18": _METRIC,
-    "tower-saddle-components.tex:24:22": _METRIC,
-    "tower-saddle-components.tex:32:39": _METRIC,
-    "tower-saddle-components.tex:32:62": _METRIC,
-    "tower-saddle-components.tex:45:39": _METRIC,
-}
+KNOWN: dict[str, str] = {}
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
 KNOWN_EXTRA: dict[str, str] = {}
