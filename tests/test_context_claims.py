@@ -147,6 +147,25 @@ def test_a_function_defined_by_its_value_at_one_argument_gets_one_note():
     assert notes[0].source.position(notes[0].span.start).line == 4
 
 
+def test_an_operator_the_reader_refuses_is_still_defined_by_its_first_application(monkeypatch):
+    # the reader refuses \operatorname{Cov} unless the document makes Cov a function; the
+    # definition itself does that (SPEC §4), so it is read again and defines
+    original = parser.parse_side
+
+    def parse_side(tokens, vocabulary, source):
+        if "Cov" in "".join(t.text for t in tokens):
+            if "Cov" not in vocabulary.functions:
+                raise UnsupportedConstruct("a covariance (Cov) is not checked", tokens[0].span)
+        return original(tokens, vocabulary, source)
+
+    monkeypatch.setattr(parser, "parse_side", parse_side)
+    text = "Load cells $\\mathbf{g} \\in \\mathbb{R}^3$.\n\n$$\n\\operatorname{Cov}(\\mathbf{g}) = \\Sigma\n$$\n"
+    context = document_context(text)
+    plan = context.plans[0]
+    assert plan.parse_error is None and plan.defines is not None and plan.defines.name == "Cov"
+    assert VALUE_NOTE in [n.message for n in context.notes]
+
+
 @pytest.mark.parametrize(
     "text",
     [

@@ -103,6 +103,35 @@ def definition_form(tree: n.Node, side: Side, source: SourceText, read: Reader) 
     return bracket_form(side, source, read)
 
 
+#: Commands whose braced argument is an operator's name (``\\operatorname{Cov}``).
+_OPERATOR_COMMANDS = ("\\operatorname", "\\operatornamewithlimits", "\\mathrm")
+
+
+def _operator_name(head: Sequence[Token]) -> str | None:
+    """``\\operatorname{Cov}`` (also starred, or ``\\mathrm{…}``) as tokens → ``"Cov"``; None
+    for anything else."""
+    tokens = [t for t in head if not t.is_symbol("*")]
+    if len(tokens) < 4 or not tokens[0].is_command(*_OPERATOR_COMMANDS):
+        return None
+    if tokens[1].kind is not TokenKind.OPEN or tokens[-1].kind is not TokenKind.CLOSE:
+        return None
+    letters = tokens[2:-1]
+    if not all(t.kind is TokenKind.LETTER for t in letters):
+        return None
+    return "".join(t.text for t in letters)
+
+
+def _head_name(head: Sequence[Token], source: SourceText, read: Reader) -> str | None:
+    """The name before a definition's argument list: a plain symbol, or an operator name
+    the reader refuses until the document makes it a function (``\\operatorname{Cov}``,
+    which this very definition does)."""
+    try:
+        tree = read(head, source)
+    except ParseError:
+        return _operator_name(head)
+    return tree.name if isinstance(tree, n.Symbol) and not tree.subs else None
+
+
 def bracket_form(side: Side, source: SourceText, read: Reader) -> Form | None:
     """``f(a, b)`` read on the side's tokens: the name and its parameters, or None.
 
@@ -114,16 +143,16 @@ def bracket_form(side: Side, source: SourceText, read: Reader) -> Form | None:
     if split is None:
         return None
     head, args = split
+    name = _head_name(head, source, read)
+    if name is None:
+        return None
     try:
-        name_tree = read(head, source)
         params = [read(a, source) for a in args]
     except ParseError:
         return None
-    if not isinstance(name_tree, n.Symbol) or name_tree.subs:
-        return None
     if not params or not all(isinstance(p, n.Symbol) for p in params):
         return None
-    return Form(name_tree.name, (), tuple(params))
+    return Form(name, (), tuple(params))
 
 
 def is_bare(form: Form) -> bool:
