@@ -138,8 +138,6 @@ class Analysis:
     transcendental: list[str] = field(default_factory=list)
     """Constructs that make values irrational (what forces floating point)."""
     differentiates: bool = False
-    symbolic_matrix_ops: bool = False
-    """An inverse, determinant or norm inside a differentiated expression."""
     positive_inputs: set[str] = field(default_factory=set)
     spd_inputs: set[str] = field(default_factory=set)
     big_power: bool = False
@@ -336,8 +334,6 @@ class Walker:
             self._mark_spd(node.args[0])
         if func == "log" and len(node.args) == 1 and isinstance(node.args[0], N.Apply) and node.args[0].func == "det":
             self._mark_spd(node.args[0].args[0])
-        if in_diff and func in ("det", "logdet"):
-            self.a.symbolic_matrix_ops = True
         if not node.user and func in KNOWN_FUNCTIONS:
             return
         definition = self.context.definitions.get(func)
@@ -377,14 +373,10 @@ class Walker:
         elif abs(exp) > 64:
             self.a.big_power = True
             self.a.huge_power = self.a.huge_power or abs(exp) > 1000
-        elif exp < 0 and in_diff:
-            self.a.symbolic_matrix_ops = True
 
     def visit_Norm(self, node: N.Norm, scope, frozen, bound_names, in_diff) -> None:
         self.visit(node.operand, scope, frozen, bound_names, in_diff)
         self.a.transcendental.append("\\|·\\|")
-        if in_diff:
-            self.a.symbolic_matrix_ops = True
 
     def visit_Cross(self, node: N.Cross, scope, frozen, bound_names, in_diff) -> None:
         self.visit(node.left, scope, frozen, bound_names, in_diff)

@@ -264,7 +264,8 @@ class ArithmeticRules(_Base):
         if len(pos) == 2 and pos[0] == pos[1]:
             if not (isinstance(e, sympy.Integer) or (getattr(e, "is_integer", False) and e.is_number)):
                 raise Unsupported(f"a non-integer power of a {shape_text(pos)} matrix", node.span)
-            return self._blockwise(base, lambda b: linalg.matrix_power(b, int(e)))
+            k = int(e)
+            return self._blockwise(base, lambda b: linalg.matrix_power(self.inverse(b), -k) if k < 0 else linalg.matrix_power(b, k))
         raise Unsupported(f"a power of a {shape_text(pos)} array (write \\|x\\|^2 or x^\\top x)", node.span)
 
     def _power(self, x: Any, e: Any, node: N.Node) -> Any:

@@ -19,6 +19,7 @@ from ..verdicts import Method, RelationKind, Verdict
 from . import compare
 from .analysis import Analysis, Key, analyse
 from .compare import Aligned, NeedFloat
+from .compiled import CompiledStep, compile_step
 from .lower import Lowerer
 from .model import FLOAT_DPS, HIGH_DPS, Env, Model
 from .sampling import Drawer, candidate_assignments, free_classes, size_assignments
@@ -49,6 +50,9 @@ MAX_REDRAWS = 40
 DOMAIN_PROBE = 6
 #: Inequalities are sampled this many times more than equalities.
 INEQUALITY_FACTOR = 4
+#: Floating-point draws go through compiled sides (:mod:`.compiled`); off, every draw
+#: is lowered afresh (the reference that compiled draws are confirmed by).
+COMPILE = True
 #: Largest expression (sympy ``count_ops``) the symbolic proof attempts.
 PROOF_OPS = 400
 #: Largest expression ``simplify`` is tried on (it is slow beyond).
@@ -80,6 +84,7 @@ class Decider:
         self.mode = "float" if self.analysis.transcendental or self.analysis.huge_power else "exact"
         self.notes: list[str] = []
         self._models: dict[tuple, Model] = {}
+        self._compiled: dict[int, CompiledStep | None] = {}
         self.sampled: list[dict[Key, int]] = []
         """The size assignments a holding step was sampled at (empty until then)."""
 
@@ -126,20 +131,14 @@ class Decider:
             outside the domain (these sizes may exclude it; try others).
         :raises Unsupported: too many draws fell outside the domain.
         """
+        confirm = check is None
         check = check or self.check
         drawer = Drawer(model, rng, small=small, extra=extra)
         done = failures = 0
         while done < count:
             env = drawer.draw(mode)
             try:
-                aligned = self._evaluate(model, env, swap)
-                ok, err = check(aligned, mode, FLOAT_DPS)
-                dps = FLOAT_DPS
-                if not ok and mode == "float":
-                    high = self._evaluate(model, env.at_precision(HIGH_DPS), swap)
-                    ok_high, err_high = check(high, mode, HIGH_DPS)
-                    if ok_high:
-                        ok, err, aligned, dps = True, err_high, high, HIGH_DPS
+                aligned, ok, err, dps = self._judge(model, env, swap, check, mode, confirm)
             except OutOfDomain as e:
                 failures += 1
                 if done == 0 and failures >= DOMAIN_PROBE:
@@ -150,15 +149,55 @@ class Decider:
             done += 1
             yield Trial(env, aligned, ok, err, dps)
 
-    def _evaluate(self, model: Model, env: Env, swap: tuple[str, str, tuple[int, int]] | None) -> Aligned:
+    def _judge(
+        self, model: Model, env: Env, swap: tuple | None, check: Check, mode: str, confirm: bool
+    ) -> tuple[Aligned, bool, float, int]:
+        """One draw evaluated and judged; a compiled draw that breaks the step's own
+        relation is confirmed by the draw-by-draw lowering before it counts."""
+        compiled = self.compiled(model) if mode == "float" and COMPILE else None
+        judged = self._look(model, env, swap, check, mode, compiled)
+        if not judged[1] and compiled is not None and confirm:
+            judged = self._look(model, env, swap, check, mode, None)
+        return judged
+
+    def _look(
+        self, model: Model, env: Env, swap: tuple | None, check: Check, mode: str, compiled: CompiledStep | None
+    ) -> tuple[Aligned, bool, float, int]:
+        aligned = self._evaluate(model, env, swap, compiled)
+        ok, err = check(aligned, mode, FLOAT_DPS)
+        if ok or mode != "float":
+            return aligned, ok, err, FLOAT_DPS
+        high = self._evaluate(model, env.at_precision(HIGH_DPS), swap, compiled)
+        ok_high, err_high = check(high, mode, HIGH_DPS)
+        if ok_high:
+            return high, True, err_high, HIGH_DPS
+        return aligned, False, err, FLOAT_DPS
+
+    def compiled(self, model: Model) -> CompiledStep | None:
+        """The step compiled at a model's sizes, or None (evaluated draw by draw)."""
+        key = id(model)
+        if key not in self._compiled:
+            compiled = compile_step(model, self.lhs, self.rhs)
+            if compiled is not None:
+                self.notes.extend(n for n in compiled.notes if n not in self.notes)
+            self._compiled[key] = compiled
+        return self._compiled[key]
+
+    def _evaluate(
+        self, model: Model, env: Env, swap: tuple[str, str, tuple[int, int]] | None, compiled: CompiledStep | None = None
+    ) -> Aligned:
         if swap is None:
-            aligned = self.evaluate(model, env)
+            aligned = compiled.evaluate(env) if compiled is not None else self.evaluate(model, env)
         else:
             name, side, axes = swap
             values = dict(env.values)
             values[name] = values[name].swapaxes(*axes).copy()
             swapped = Env(env.mode, values, env.functions, env.raw, env.raw_functions, env.dps)
-            aligned = self.evaluate(model, swapped, env) if side == "lhs" else self.evaluate(model, env, swapped)
+            left, right = (swapped, env) if side == "lhs" else (env, swapped)
+            if compiled is not None:
+                aligned = compiled.evaluate(left, right)
+            else:
+                aligned = self.evaluate(model, left, right)
         if env.mode == "exact":
             compare.exact_entries(aligned.lhs), compare.exact_entries(aligned.rhs)
         else:

@@ -3,7 +3,9 @@
 At a size assignment the differentiated expression is lowered once on Symbols
 (subtrees free of the variables become placeholders), differentiated, and cached;
 each draw then substitutes numbers with ``xreplace`` (LIBRARY-NOTES §3: about
-2.7 ms a draw against 150 ms when differentiating per draw).
+2.7 ms a draw against 150 ms when differentiating per draw).  Inverses and
+determinants stay opaque functions of their entries (:mod:`.opaque`), so the
+differentiated expression stays small whatever the matrix sizes.
 
 Layouts (SPEC §8), for ``∂f/∂x``:
 
@@ -35,9 +37,9 @@ import sympy
 from ..context.model import AssumptionKind, Layout
 from ..expressions import nodes as N
 from ..source import Span
+from .differentiate import Differentiator
 from .lower import Lowerer, State
 from .metric import chain_axes, heights
-from .model import Env
 from .values import OutOfDomain, Unsupported, Value, make_value, obj_array, shape_text
 
 #: Assumptions that tie components together (derivatives ignore the tie).
@@ -49,24 +51,18 @@ _TIED = frozenset({
 })
 
 
-#: Differentiate per draw, with numbers in place, when inverses or determinants are
-#: differentiated (see :func:`_per_draw`).
-PER_DRAW = True
-
-
 def lower_derivative(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) -> Value:
     """The value of a derivative node in the lowerer's environment."""
     if not lw.env.numeric:
         return _symbolic(lw, node, st)
     if st.overrides:
         raise Unsupported("a derivative inside a definition applied to arguments", node.span)
-    if PER_DRAW and lw.model.analysis.symbolic_matrix_ops:
-        return _per_draw(lw, node, st)
     key = (id(node), st.cache_key())
     entry = lw.model.derivative_cache.get(key)
     if entry is None:
         placeholders: list = []
         symbolic = Lowerer(lw.model, lw.model.symbol_env(), placeholders)
+        symbolic.opaque_matrices = True  # inverses and determinants stay small (see .opaque)
         value = _symbolic(symbolic, node, replace(st, keep=frozenset()))
         entry = (value, placeholders, tuple(symbolic.notes))
         lw.model.derivative_cache[key] = entry
@@ -79,26 +75,6 @@ def lower_derivative(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) ->
             raise Unsupported("a subexpression changed shape between draws", sub_node.span)
         for idx in np.ndindex(*dummies.shape):
             table[dummies[idx]] = filled.data[idx]
-    return value.map(lambda e: _finish(lw, e.xreplace(table) if hasattr(e, "xreplace") else e))
-
-
-def _per_draw(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) -> Value:
-    """Differentiate with every input but the variables already numbers.
-
-    For inverses and determinants the all-symbol expression is large (a 3×3
-    determinant of a product of three symbolic matrices has thousands of terms);
-    with numbers in place it is a small polynomial in the variables, so
-    differentiating afresh per draw is cheaper than substituting into the
-    all-symbol derivative."""
-    names = {v.target.name for v in _variables(lw, node)}
-    names |= {name for name, spec in lw.model.analysis.inputs.items() if spec.chain_variable}
-    values = dict(lw.env.values)
-    for name in names:
-        values[name] = lw.model.symbols(name)
-    mixed = Lowerer(lw.model, Env("symbolic", values, lw.env.functions, dps=lw.env.dps))
-    value = _symbolic(mixed, node, replace(st, keep=frozenset()))
-    lw.notes.extend(n for n in mixed.notes if n not in lw.notes)
-    table = {k: v for k, v in _substitution(lw).items() if k.name.split("[")[0] in names}
     return value.map(lambda e: _finish(lw, e.xreplace(table) if hasattr(e, "xreplace") else e))
 
 
@@ -203,7 +179,8 @@ def _by_variable(lw: Lowerer, f: Value, v: N.Variable, st: State, gradient: bool
         if note not in lw.notes:
             lw.notes.append(note)
     nf, nv = f.data.ndim, var.data.ndim
-    jac = obj_array(f.data.shape + var.data.shape, lambda i: sympy.diff(f.data[i[:nf]], var.data[i[nf:]]))
+    by = {idx: Differentiator(var.data[idx]) for idx in np.ndindex(*var.data.shape)}
+    jac = obj_array(f.data.shape + var.data.shape, lambda i: by[i[nf:]].diff(f.data[i[:nf]]))
     lf, lv = len(f.labels), len(var.labels)
     pf = f.data.shape[lf:]
     rem = var.data.shape[lv:]

@@ -93,17 +93,12 @@ class FunctionRules(_Base):
         if func == "tr":
             return self._blockwise(arg, linalg.trace)
         if func == "det":
-            return self._blockwise(arg, linalg.det)
+            return self._blockwise(arg, self.determinant)
         if func == "logdet":
-            return self._blockwise(arg, self._logdet)
+            return self._blockwise(arg, lambda b: self._function("log", self.determinant(b, nonsingular=True)))
         if func == "diag":
             return self._blockwise(arg, linalg.diag)
         return self._blockwise(arg, linalg.vec)
-
-    def _logdet(self, block: Any) -> Any:
-        if self.env.numeric and block.ndim == 2 and linalg.nearly_singular(block):
-            raise OutOfDomain("a singular matrix was drawn")
-        return self._function("log", linalg.det(block))
 
     def _apply_definition(self, node: N.Apply, definition: Definition, st: State) -> Value:
         params = [p.name for p in definition.params if isinstance(p, N.Symbol)]

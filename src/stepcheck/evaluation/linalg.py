@@ -94,8 +94,6 @@ def inverse(block: np.ndarray) -> np.ndarray:
             raise Unsupported(f"a symbolic inverse of a {n}×{n} matrix (the cap is {SYMBOLIC_CAP}×{SYMBOLIC_CAP})")
         det = m.det(method="berkowitz")
         return _from_matrix(m.adjugate(method="berkowitz")) * reciprocal(det)
-    if nearly_singular(block):
-        raise OutOfDomain("a singular matrix was drawn")
     try:
         return _from_matrix(m.inv())
     except (NonInvertibleMatrixError, ZeroDivisionError) as e:

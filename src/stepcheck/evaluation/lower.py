@@ -21,7 +21,7 @@ import sympy
 
 from ..context.model import Definition, Summation
 from ..expressions import nodes as N
-from . import linalg
+from . import linalg, opaque
 from .analysis import scalar_name
 from .arithmetic import ArithmeticRules
 from .functions import FunctionRules
@@ -34,6 +34,7 @@ from .values import (
     AnyValue,
     IndexMismatch,
     LazyValue,
+    OutOfDomain,
     ShapeMismatch,
     Unsupported,
     Value,
@@ -70,6 +71,9 @@ class Lowerer(ArithmeticRules, FunctionRules):
         self._definition_cache: dict[Any, Value] = {}
         self._reach_cache: dict[str, frozenset[str]] = {}
         self._metric: tuple[np.ndarray, np.ndarray] | None = None
+        self.opaque_matrices = False
+        """Inverses and determinants of symbolic blocks as opaque functions of their
+        entries (:mod:`.opaque`), for derivatives and compiled draws; else expanded."""
         self.notes: list[str] = []
 
     # ------------------------------------------------------------------ dispatch
@@ -201,8 +205,37 @@ class Lowerer(ArithmeticRules, FunctionRules):
         """The metric ``g_{ij}`` and its inverse ``g^{ij}`` in this environment."""
         if self._metric is None:
             g = self.env.values[self.model.analysis.metric]  # type: ignore[index]
-            self._metric = (g, linalg.inverse(g))
+            self._metric = (g, self.inverse(g))
         return self._metric
+
+    def inverse(self, block: np.ndarray) -> np.ndarray:
+        """The inverse of a square block (see :func:`.linalg.inverse`; opaque entries
+        when :attr:`opaque`).
+
+        :raises OutOfDomain: a numeric draw made it singular (up to rounding in
+            floating point, :func:`.linalg.nearly_singular`).
+        """
+        if block.ndim == 2 and self.opaque_matrices and linalg.is_symbolic(block):
+            linalg.square(block, "an inverse")
+            return opaque.inverse_block(block)
+        if block.ndim == 2:
+            self.guard(block)
+        return linalg.inverse(block)
+
+    def determinant(self, block: np.ndarray, nonsingular: bool = False) -> Any:
+        """The determinant of a square block; ``nonsingular``: it must not vanish
+        (under ``\\log\\det``)."""
+        if block.ndim == 2 and self.opaque_matrices and linalg.is_symbolic(block):
+            linalg.square(block, "a determinant")
+            return opaque.determinant(block, nonsingular)
+        if nonsingular and block.ndim == 2:
+            self.guard(block)
+        return linalg.det(block)
+
+    def guard(self, block: np.ndarray) -> None:
+        """:raises OutOfDomain: a numeric block that is singular (up to rounding)."""
+        if self.env.numeric and linalg.nearly_singular(block):
+            raise OutOfDomain("a singular matrix was drawn")
 
     def index_native(
         self, native: np.ndarray, subs: tuple, st: State, node: N.Node, family: bool = False, positional: bool = True
