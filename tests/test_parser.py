@@ -3,7 +3,8 @@
 The case file holds blocks of ``title`` / ``.`` / ``input`` / ``.`` / ``expected`` / ``.``.
 A title may end with vocabulary options in brackets (``[functions=f; dimensions=n;
 labels=max; index=\\mu; tensors=e; up-down; zero-based]``).  The expected block is the
-tree's outline (``nodes.outline``) or ``error: <the ParseError as printed>``.  A title
+tree's outline (``nodes.outline``), ``error: <the ParseError as printed>`` or, for a construct
+the reader recognises and the tool does not check, ``unsupported: <the UnsupportedConstruct>``.  A title
 that starts with an ambiguity rule id (``transpose: …``) shows that rule.
 """
 
@@ -19,8 +20,8 @@ import pytest
 
 from stepcheck.context.model import Vocabulary
 from stepcheck.expressions import nodes as n
-from stepcheck.expressions import parser, relations
-from stepcheck.expressions.errors import ParseError
+from stepcheck.expressions import parser, relations, vocabulary
+from stepcheck.expressions.errors import ParseError, UnsupportedConstruct
 from stepcheck.expressions.parser import MAX_DEPTH, parse_latex, parse_side, read_latex
 from stepcheck.expressions.tokens import tokenize
 from stepcheck.expressions.vocabulary import AMBIGUITY_RULES
@@ -86,6 +87,8 @@ def rule_of(title: str) -> str | None:
 def outcome(text: str, vocabulary: Vocabulary) -> str:
     try:
         return n.outline(parse_latex(text, vocabulary))
+    except UnsupportedConstruct as exc:
+        return f"unsupported: {exc}"
     except ParseError as exc:
         return f"error: {exc}"
 
@@ -220,10 +223,10 @@ def test_label_then_transpose_span_covers_the_whole_superscript() -> None:
 _OTHER_POSITION = re.compile(r"\bline \d|\boffset \d|\bat (?!column \d)(?:line|column|offset)\b")
 
 
-@pytest.mark.parametrize(
-    ("title", "text", "expected"), [c for c in ALL_CASES if c[2].startswith("error: ")],
-    ids=[c[0] for c in ALL_CASES if c[2].startswith("error: ")],
-)
+_ERROR_CASES = [c for c in ALL_CASES if c[2].startswith(("error: ", "unsupported: "))]
+
+
+@pytest.mark.parametrize(("title", "text", "expected"), _ERROR_CASES, ids=[c[0] for c in _ERROR_CASES])
 def test_every_error_names_its_place_as_at_column_n(title: str, text: str, expected: str) -> None:
     """Every reader message names positions one way, ``at column N`` (field report §4)."""
     with pytest.raises(ParseError) as caught:
@@ -288,6 +291,114 @@ def test_a_relation_or_separator_inside_brackets_is_named_never_unknown(command:
 @pytest.mark.parametrize("command", sorted(relations.DROPPED))
 def test_what_the_splitter_drops_the_reader_drops_too(command: str) -> None:
     assert n.outline(parse_latex(f"(a {command} b)")) == n.outline(parse_latex("(a b)"))
+
+
+@pytest.mark.parametrize("command", sorted(relations.UNWRAPPED_COMMANDS))
+def test_what_the_splitter_unwraps_the_reader_reads_as_a_group(command: str) -> None:
+    assert n.outline(parse_latex(f"a {command}{{b + c}}")) == n.outline(parse_latex("a {b + c}"))
+
+
+# --------------------------------------------------------------------------- refusals
+
+#: Snippets for the refusal tables where ``x + COMMAND y`` does not reach the command.
+_REFUSAL_SNIPPETS = {"\\middle": r"\left( a \middle| b \right)"}
+
+
+def _refusals() -> list[tuple[str, str, str]]:
+    """(id, snippet, what the message names) for every entry of the reader's refusal tables."""
+    cases = [(c, _REFUSAL_SNIPPETS.get(c, f"x + {c} y"), c) for c in sorted(vocabulary.UNSUPPORTED)]
+    cases += [(name, f"{name}[x]", name) for name in sorted(vocabulary.UNSUPPORTED_NAMES)]
+    cases += [(f"symbol {c}", f"n{c} x", c) for c in sorted(vocabulary.UNSUPPORTED_SYMBOLS)]
+    cases += [
+        (f"env {env}", rf"\begin{{{env}}} a & b \end{{{env}}}", env) for env in sorted(vocabulary.UNSUPPORTED_ENVIRONMENTS)
+    ]
+    cases += [
+        (f"operator {name}", rf"\operatorname{{{name}}}(x)", name) for name in sorted(vocabulary.UNSUPPORTED_OPERATORS)
+    ]
+    cases += [
+        ("upright Var", r"\mathrm{Var}(x)", "Var"),
+        ("argmin with limits", r"\operatorname*{argmin}_{\mathbf{w}} L", "argmin"),
+        ("subscripted operator", r"\operatorname*{relu}_{w} x", "relu"),
+        ("dagger superscript", r"A^{\dagger} b", r"\dagger"),
+        ("plus superscript", r"A^{+} b", "^{+}"),
+        ("divergence", r"\nabla \cdot \mathbf{v}", "divergence"),
+        ("curl", r"\nabla \times \mathbf{v}", "curl"),
+        ("prime notation", r"\sigma'(z)", "prime notation"),
+        ("evaluation bar", r"\left. f \right|_{x=0}", "evaluation bar"),
+    ]
+    return cases
+
+
+_REFUSALS = _refusals()
+
+
+@pytest.mark.parametrize(("text", "named"), [c[1:] for c in _REFUSALS], ids=[c[0] for c in _REFUSALS])
+def test_a_recognised_construct_is_refused_as_unsupported_naming_it(text: str, named: str) -> None:
+    """SPEC §9: read, but a construct cannot be checked (named in the message) is ``unsupported``;
+    the integrator's decision puts every entry of the refusal tables there."""
+    with pytest.raises(UnsupportedConstruct) as caught:
+        parse_latex(text)
+    message = caught.value.message
+    assert named in message and "not checked" in message, message
+    assert "\\cdot between" not in message
+
+
+NOT_RECOGNISED = [
+    ("unknown-command", r"\foo x"),
+    ("unclosed-paren", "(a + b"),
+    ("dangling-operator", "a +"),
+    ("star-product", "a * b"),
+    ("ast-product", r"a \ast b"),
+    ("arithmetic-subscript", "x_{i+1}"),
+    ("unknown-environment", r"\begin{tabular} a \end{tabular}"),
+    ("relation-inside", "a = b"),
+]
+
+
+@pytest.mark.parametrize("text", [c[1] for c in NOT_RECOGNISED], ids=[c[0] for c in NOT_RECOGNISED])
+def test_unreadable_text_stays_a_plain_parse_error(text: str) -> None:
+    with pytest.raises(ParseError) as caught:
+        parse_latex(text)
+    assert not isinstance(caught.value, UnsupportedConstruct), caught.value.message
+
+
+def test_a_declared_function_named_like_a_refused_operator_is_applied() -> None:
+    node = parse_latex(r"\operatorname{Cov}(\mathbf{g})", Vocabulary(functions=frozenset({"Cov"})))
+    assert isinstance(node, n.Apply) and node.func == "Cov" and node.user
+
+
+def test_a_lone_upright_e_is_a_symbol_not_an_expectation() -> None:
+    # Young's modulus written upright (common practice in structural notes) stays a symbol.
+    assert n.outline(parse_latex(r"\mathrm{E} A")) == "Mul\n  Symbol name=E\n  Symbol name=A"
+
+
+# --------------------------------------------------------------------------- matrix literals
+
+_LITERAL_ROWS = r"1 & -1 \\ -1 & 1"
+
+
+@pytest.mark.parametrize("env", sorted(set(vocabulary.MATRIX_ENVIRONMENTS)))
+def test_every_matrix_environment_reads_a_literal_with_signed_entries(env: str) -> None:
+    align = "[r]" if env.endswith("*") else "{cc}" if env == "array" else ""
+    node = parse_latex(rf"c \begin{{{env}}}{align} {_LITERAL_ROWS} \end{{{env}}}")
+    assert isinstance(node, n.Mul)
+    literal = node.factors[1]
+    if vocabulary.MATRIX_ENVIRONMENTS[env] == "det":
+        assert isinstance(literal, n.Apply) and literal.func == "det"
+        literal = literal.args[0]
+    assert isinstance(literal, n.MatrixLiteral)
+    assert [len(row) for row in literal.rows] == [2, 2]
+    assert isinstance(literal.rows[0][1], n.Neg) and isinstance(literal.rows[1][0], n.Neg)
+
+
+def test_entries_side_by_side_in_a_matrix_are_told_to_use_the_column_mark() -> None:
+    # GIVEN a matrix literal whose author forgot one '&'
+    with pytest.raises(ParseError) as caught:
+        parse_latex(r"\begin{bmatrix} 1 & -1 \\ -1 \; 1 \end{bmatrix}")
+    # THEN the message names the matrix and its column mark, never \cdot
+    assert caught.value.message == (
+        "two numbers side by side at column 33 ('1 1') are not read: separate the entries of the bmatrix with '&'"
+    )
 
 
 def test_matrix_literal_keeps_its_rows() -> None:

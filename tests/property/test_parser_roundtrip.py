@@ -48,7 +48,7 @@ def without_spans(value: Any) -> Any:
 # --------------------------------------------------------------------------- strategies
 
 NAMES = ["x", "y", "A", "W", "\\alpha", "\\Sigma", "\\hat{y}", "\\mathcal{L}", "MSE", "x_{max}",
-         "W^{(2)}", "x'", "\\theta^{*}", "\\beta_{0}", "\\Sigma_{XY}", "h^{(t+1)}"]
+         "W^{(2)}", "x'", "\\theta^{*}", "\\beta_{0}", "\\Sigma_{XY}", "h^{(enc)}"]
 FLAT_SUBS = [n.Index("i", False, S), n.Index("j", False, S), n.Index("k", False, S), n.Fixed(1, False, S),
              n.Fixed(2, False, S), n.Fixed("n", False, S), n.Fixed(12, False, S)]
 UP_DOWN_SUBS = [n.Index("i", True, S), n.Index("j", False, S), n.Index("\\mu", True, S), n.Index("k", False, S)]

@@ -3,6 +3,7 @@
 Grammar::
 
     group      := '{' expression '}'
+    brace      := (\\underbrace | \\overbrace) argument [script]   (the script is a note, dropped)
     delimited  := '(' expression ')' | '[' expression ']' | '\\{' expression '\\}'
                 | bar expression bar | '\\langle' expression ',' expression '\\rangle'
     matrix     := \\begin{env} row ('\\\\' row)* \\end{env};  row := expression ('&' expression)*
@@ -24,7 +25,7 @@ from ._symbols import Script, Scripts
 from .errors import ParseError
 from .nodes import Node
 from .tokens import Token, TokenKind
-from .vocabulary import BAR_KIND, BARS, DELIMITERS, MATRIX_ENVIRONMENTS, NORM_KINDS
+from .vocabulary import BAR_KIND, BARS, DELIMITERS, MATRIX_ENVIRONMENTS, NORM_KINDS, UNSUPPORTED_ENVIRONMENTS
 
 if TYPE_CHECKING:
     from ._stream import Stream
@@ -37,6 +38,7 @@ class BracketReading:
 
     s: Stream
     open_bar: str | None
+    matrix_env: str | None
     expression: Callable[[], Node]
     note: Callable[[str, Span, str], None]
     region: Callable[[int, int, Callable[[], T]], T]
@@ -137,6 +139,23 @@ class BracketReading:
                 node = self.apply_sup(node, item, kind, node.span.join(item.span))
         return node
 
+    # ----------------------------------------------------------------- layout braces
+
+    def layout_brace(self) -> Node:
+        """brace := \\underbrace argument ['_' argument] | \\overbrace argument ['^' argument]:
+        the argument, read like a group; the note under or over the brace is dropped."""
+        start = self.s.pos
+        cmd = self.s.advance()
+        a, b = self.argument(cmd)
+        if b <= a:
+            raise self.s.error(f"{cmd.text} at {self.s.where(cmd.span)} needs an expression in its braces", cmd.span)
+        inner = self.region(a, b, self.expression)
+        note = self.s.peek()
+        if note is not None and note.kind is (TokenKind.SUB if cmd.text == "\\underbrace" else TokenKind.SUP):
+            self.s.advance()
+            self.argument(note)
+        return dataclasses.replace(inner, span=self.s.span_from(start))  # type: ignore[type-var]
+
     # ----------------------------------------------------------------- matrices
 
     def matrix(self) -> Node:
@@ -145,13 +164,18 @@ class BracketReading:
         begin = self.s.advance()
         env = begin.text
         meaning = MATRIX_ENVIRONMENTS.get(env)
+        if env in UNSUPPORTED_ENVIRONMENTS:
+            raise self.s.refuse(f"{UNSUPPORTED_ENVIRONMENTS[env]} (at {self.s.where(begin.span)})", begin.span)
         if meaning is None:
             raise self.s.error(f"the environment '{env}' at {self.s.where(begin.span)} is not read inside an expression", begin.span)
+        if env.endswith("*"):
+            self._column_alignment()
         saved_bar, self.open_bar = self.open_bar, None
+        saved_matrix, self.matrix_env = self.matrix_env, env
         try:
             rows = self._matrix_rows(begin)
         finally:
-            self.open_bar = saved_bar
+            self.open_bar, self.matrix_env = saved_bar, saved_matrix
         span = self.s.span_from(start)
         widths = {len(row) for row in rows}
         if len(widths) != 1:
@@ -161,6 +185,12 @@ class BracketReading:
             self.note("vmatrix", span, "the determinant of the matrix")
             node = n.Apply("det", (node,), False, span)
         return node
+
+    def _column_alignment(self) -> None:
+        """Skip the ``[r]`` after ``\\begin{pmatrix*}`` (one letter: l, c or r)."""
+        a, b, c = self.s.peek(), self.s.peek(1), self.s.peek(2)
+        if a is not None and a.is_symbol("[") and b is not None and b.text in ("l", "c", "r") and c is not None and c.is_symbol("]"):
+            self.s.pos += 3
 
     def _matrix_rows(self, begin: Token) -> list[tuple[Node, ...]]:
         rows: list[tuple[Node, ...]] = []

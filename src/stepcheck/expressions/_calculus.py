@@ -286,9 +286,8 @@ class CalculusReading:
         order = self._order(tok, sups[0].start, sups[0].end) if sups else 1
         nxt = self.s.peek()
         if nxt is not None and nxt.is_command("\\cdot", "\\times"):
-            raise self.s.error(
-                f"the divergence or curl '\\nabla {nxt.text}' at {self.s.where(tok.span)} is not read", tok.span
-            )
+            what = "a divergence" if nxt.text == "\\cdot" else "a curl"
+            raise self.s.refuse(f"{what} ('\\nabla {nxt.text}' at {self.s.where(tok.span)}) is not checked", tok.span)
         body = self.rest(self.s.span_from(start), "\\nabla")
         self.note("derivative-reach", body.span, "the gradient applies to the rest of the product term")
         return n.Gradient(body, wrt, order, self.s.span_from(start))

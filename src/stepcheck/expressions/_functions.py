@@ -22,7 +22,7 @@ from ._symbols import Base, Scripts
 from .errors import ParseError
 from .nodes import Node
 from .tokens import Token, TokenKind
-from .vocabulary import DUAL_FUNCTION_COMMANDS, FUNCTION_COMMANDS, FUSED_FUNCTIONS, OPERATOR_NAMES
+from .vocabulary import DUAL_FUNCTION_COMMANDS, FUNCTION_COMMANDS, FUSED_FUNCTIONS, OPERATOR_NAMES, UNSUPPORTED_OPERATORS
 
 if TYPE_CHECKING:
     from ..context.model import Vocabulary
@@ -46,6 +46,7 @@ class FunctionReading:
     exponent: Callable[[Script], Node]
     scripts_on: Callable[[Node, int], Node]
     starts_factor: Callable[..., bool]
+    starts_symbol: Callable[[Token], bool]
     _close: Callable[[Token, str, str], None]
 
     def _paren_end(self) -> Span:
@@ -108,11 +109,16 @@ class FunctionReading:
         if not toks or not all(t.kind in (TokenKind.LETTER, TokenKind.NUMBER) or t.is_symbol("-") for t in toks):
             span = self.s.span_from(start)
             raise self.s.error(f"the operator name at {self.s.where(span)} must be letters", span)
+        if name in UNSUPPORTED_OPERATORS and name not in self.vocab.functions:
+            span = self.s.span_from(start)
+            raise self.s.refuse(f"{UNSUPPORTED_OPERATORS[name]} at {self.s.where(span)} is not checked", span)
         nxt = self.s.peek()
         if nxt is not None and nxt.kind is TokenKind.SUB:
             span = self.s.span_from(start)
-            raise self.s.error(
-                f"the operator '{name}' with a subscript at {self.s.where(span)} (such as argmin_x) is not read", span
+            raise self.s.refuse(
+                f"the operator '{name}' with a subscript at {self.s.where(span)} (an operator with limits, such "
+                "as argmin_x) is not checked",
+                span,
             )
         if name in OPERATOR_NAMES:
             return self.function_call(OPERATOR_NAMES[name], False, start)
@@ -134,8 +140,7 @@ class FunctionReading:
             args = (self.group(),)
             self.note("function-applied", self.s.span_from(start), _applied(func, user))
         else:
-            args = (self._next_factor(func, name_span),)
-            self.note("function-next-factor", self.s.span_from(start), f"{func} applied to the next factor only")
+            args = (self._next_factor(func, name_span, start),)
         if not user and len(args) != 1:
             raise self.s.error(f"{func} at {self.s.where(name_span)} takes one argument, not {len(args)}", self.s.span_from(start))
         node: Node = n.Apply(func, args, user, self.s.span_from(start))
@@ -162,15 +167,35 @@ class FunctionReading:
             raise self.s.error(f"the superscript on the function at {self.s.where(item.span)} must be a power", item.span)
         return self.exponent(item)
 
-    def _next_factor(self, func: str, name_span: Span) -> Node:
+    def _next_factor(self, func: str, name_span: Span, start: int) -> Node:
+        """The argument of a function written without parentheses: the next power-level factor
+        (rule ``function-next-factor``), or a number-led monomial (``function-number-argument``)."""
         tok = self.s.peek()
         if tok is not None and tok.is_symbol("-"):
             at = self.s.pos
             self.s.advance()
-            return n.Neg(self._next_factor(func, name_span), self.s.span_from(at))
+            return n.Neg(self._next_factor(func, name_span, start), self.s.span_from(at))
         if tok is None or not self.starts_factor(tok, operand=True):
             raise self.s.error(f"the function {func} at {self.s.where(name_span)} needs an argument", name_span)
-        return self.factor()
+        monomial = tok.kind is TokenKind.NUMBER
+        argument = self._monomial() if monomial else self.factor()
+        if monomial and isinstance(argument, n.Mul):
+            text = self.s.text_of(argument.span)
+            self.note("function-number-argument", self.s.span_from(start), f"{func} applied to the monomial {text}")
+        else:
+            self.note("function-next-factor", self.s.span_from(start), f"{func} applied to the next factor only")
+        return argument
+
+    def _monomial(self) -> Node:
+        """monomial := number-factor symbol-factor*  (``2\\pi f t``): a number and the symbols
+        juxtaposed after it, up to anything else (another function, a parenthesis, an operator)."""
+        at = self.s.pos
+        factors = [self.factor()]
+        while (tok := self.s.peek()) is not None and self.starts_symbol(tok) and self.s.role() != "close":
+            factors.append(self.factor())
+        if len(factors) == 1:
+            return factors[0]
+        return n.Mul(tuple(factors), self.s.span_from(at))
 
     def argument_list(self) -> tuple[Node, ...]:
         """arguments := '(' expression (',' expression)* ')'"""

@@ -11,9 +11,12 @@ from dataclasses import dataclass
 from typing import Sequence
 
 from ..source import SourceText, Span
-from .errors import ParseError
+from .errors import ParseError, UnsupportedConstruct
 from .tokens import Token, TokenKind
-from .vocabulary import ACCENTS, BOLD_FONTS, DROPPED, FRACTIONS, NAMED_FONTS, PLAIN_FONTS, SIZING, UNSUPPORTED, UNSUPPORTED_SYMBOLS
+from .vocabulary import (
+    ACCENTS, BOLD_FONTS, DROPPED, FRACTIONS, NAMED_FONTS, NOT_READ_SYMBOLS, PLAIN_FONTS, SIZING, UNSUPPORTED,
+    UNSUPPORTED_SYMBOLS,
+)
 
 #: Commands dropped together with the brace group after them.
 _DROPPED_WITH_GROUP = frozenset({"\\hspace", "\\vspace", "\\phantom", "\\hphantom", "\\vphantom", "\\mspace"})
@@ -83,7 +86,7 @@ class Stream:
         sizing = tokens[i]
         role = SIZING[sizing.text]
         if role == "middle":
-            raise self.error(UNSUPPORTED[sizing.text] + f" (at {self.where(sizing.span)})", sizing.span)
+            raise self.refuse(UNSUPPORTED[sizing.text] + f" (at {self.where(sizing.span)})", sizing.span)
         j = i + 1
         while j < len(tokens) and tokens[j].kind is TokenKind.COMMENT:
             j += 1
@@ -91,9 +94,9 @@ class Stream:
             raise self.error(f"{sizing.text} at {self.where(sizing.span)} needs a delimiter after it", sizing.span)
         delim = tokens[j]
         if delim.is_symbol("."):
-            raise self.error(
-                f"the empty delimiter '{sizing.text}.' at {self.where(sizing.span)} is not read "
-                "(an evaluation bar such as \\left.f\\right|_{x=0} is not supported)",
+            raise self.refuse(
+                f"an evaluation bar ('{sizing.text}.' at {self.where(sizing.span)}, as in "
+                "\\left.f\\right|_{x=0}) is not checked",
                 sizing.span,
             )
         if delim.kind not in (TokenKind.SYMBOL, TokenKind.COMMAND):
@@ -171,6 +174,11 @@ class Stream:
         """A :class:`ParseError` at ``span``."""
         return ParseError(message, self.source, span)
 
+    def refuse(self, message: str, span: Span) -> UnsupportedConstruct:
+        """An :class:`UnsupportedConstruct` at ``span``: the reader knows the construct the
+        message names, and the tool does not check it (verdict ``unsupported``)."""
+        return UnsupportedConstruct(message, self.source, span)
+
     def unexpected(self, tok: Token | None, expected: str | None = None) -> ParseError:
         """``unexpected '&' at column 9`` (``; expected …``)."""
         if tok is None:
@@ -181,7 +189,9 @@ class Stream:
                 what = f"unexpected end of the expression at {self.where(self.end_span())}"
             span = self.end_span()
         elif tok.kind is TokenKind.SYMBOL and tok.text in UNSUPPORTED_SYMBOLS:
-            what = f"{UNSUPPORTED_SYMBOLS[tok.text]} (at {self.where(tok.span)})"
+            return self.refuse(f"{UNSUPPORTED_SYMBOLS[tok.text]} (at {self.where(tok.span)})", tok.span)
+        elif tok.kind is TokenKind.SYMBOL and tok.text in NOT_READ_SYMBOLS:
+            what = f"{NOT_READ_SYMBOLS[tok.text]} (at {self.where(tok.span)})"
             span = tok.span
             expected = None
         else:

@@ -36,6 +36,7 @@ from .vocabulary import (
     SLASH_OPERATORS,
     SUPERSCRIPT_MARKS,
     TEXT_FONTS,
+    UNSUPPORTED_OPERATORS,
     is_index_name,
 )
 
@@ -215,6 +216,8 @@ class SymbolReading:
         if word in OPERATOR_NAMES:
             self.note("word-name", span, f"the word {word} names the function {OPERATOR_NAMES[word]}")
             return FunctionName(OPERATOR_NAMES[word], False, span)
+        if word in UNSUPPORTED_OPERATORS and len(word) > 1:  # a lone upright E may be a modulus
+            raise self.s.refuse(f"{UNSUPPORTED_OPERATORS[word]} at {self.s.where(span)} is not checked", span)
         if len(word) == 1:
             return Base(word, self.bold > 0, span, "letter")
         self.note("word-name", span, f"a symbol named {word}")
@@ -437,9 +440,9 @@ class SymbolReading:
         toks = self.s.tokens[script.start : script.end]
         mark = SUPERSCRIPT_MARKS.get(_mark_key(toks))
         if mark == "unsupported":
-            raise self.s.error(
-                f"the superscript '{self.s.text_of(script.span)}' at {self.s.where(script.span)} is not read "
-                "(pseudo-inverse or adjoint)",
+            raise self.s.refuse(
+                f"the superscript '{self.s.text_of(script.span)}' at {self.s.where(script.span)}, a pseudo-inverse "
+                "or adjoint, is not checked",
                 script.span,
             )
         if mark == "star":
@@ -470,15 +473,23 @@ class SymbolReading:
         if close is None or close + 1 >= script.end:
             return None
         label = _parenthesised_label(toks[script.start : close + 1])
-        if label is None:
-            return None
         rest = Script(script.mark, close + 1, script.end, Span(toks[close + 1].span.start, script.span.end))
         rest_toks = toks[rest.start : rest.end]
+        if label is None:
+            if _mark_key(rest_toks) in _MARKS_AFTER_LABEL:
+                group = self.s.text_of(toks[script.start].span.join(toks[close].span))
+                raise self.s.error(
+                    f"the superscript '{self.s.text_of(script.span)}' at {self.s.where(script.span)}: '{group}' holds "
+                    "an operator, so it is an exponent, not a label (only names and numbers make a label, as in "
+                    "^{(k)\\top}), and a transpose mark cannot follow an exponent",
+                    script.span,
+                )
+            return None
         if _mark_key(rest_toks) in _MARKS_AFTER_LABEL or _whole_power(rest_toks):
             return label, rest
         first = rest_toks[0]
-        if any(t.is_symbol("+", "-") for t in toks[script.start : close]) or not _multiplies(first):
-            return None  # an exponent such as (a+b)t, (x)_i or (n)/2
+        if not _multiplies(first):
+            return None  # an exponent such as (x)_i or (n)/2
         raise self.s.error(
             f"{_describe(first)} at {self.s.where(first.span)} follows the label '{label}' in the superscript "
             f"'{self.s.text_of(script.span)}': {AFTER_LABEL}",
@@ -492,6 +503,9 @@ class SymbolReading:
             node = self.region(script.start, script.end, self.expression)
         finally:
             self.exponents -= 1
+        toks = self.s.tokens[script.start : script.end]
+        if _parenthesised_label(toks) is None and _closing_paren(toks) == len(toks) - 1:
+            self.note("superscript-label", script.span, f"{self.s.text_of(node.span)} holds an operator: an exponent, not a label")
         if isinstance(node, n.Neg) and isinstance(node.operand, n.Number):
             num = node.operand
             return n.Number(-num.value, "-" + num.text, node.span)
@@ -578,13 +592,31 @@ def _whole_power(toks: list[Token]) -> bool:
     return len(inner) == 1 and inner[0].kind is TokenKind.NUMBER and inner[0].text.isdigit() and int(inner[0].text) > 0
 
 
+def _closing_paren(toks: list[Token]) -> int | None:
+    """The index of the ``)`` that closes the ``(`` at ``toks[0]`` (None: no such pair)."""
+    if not toks or not toks[0].is_symbol("("):
+        return None
+    depth = 0
+    for k, t in enumerate(toks):
+        depth += 1 if t.is_symbol("(") else -1 if t.is_symbol(")") else 0
+        if depth == 0:
+            return k
+    return None
+
+
 def _parenthesised_label(toks: list[Token]) -> str | None:
-    """``(l)``, ``(2)``, ``(t+1)``, ``(\\ell)`` → the label text; else None."""
+    """``(l)``, ``(2)``, ``(\\ell)``, ``(enc)``, ``(i,j)`` → the label text; else None.
+
+    Only names and numbers (optionally separated by commas) make a label: a parenthesis that
+    holds an operator (``(n-1)``, ``(a+b)``) is an exponent (rule ``superscript-label``)."""
     if len(toks) < 3 or not toks[0].is_symbol("(") or not toks[-1].is_symbol(")"):
         return None
+    inner = toks[1:-1]
+    if inner[0].is_symbol(",") or inner[-1].is_symbol(","):
+        return None
     text = "("
-    for prev, t in zip(toks[:-2], toks[1:-1]):
-        ok = t.kind in _LABEL_TOKENS or t.is_symbol("+", "-", ",") or t.text in GREEK
+    for prev, t in zip(toks[:-2], inner):
+        ok = t.kind in _LABEL_TOKENS or t.is_symbol(",") or t.text in GREEK
         if not ok:
             return None
         if prev.kind is TokenKind.COMMAND and t.kind is TokenKind.LETTER:

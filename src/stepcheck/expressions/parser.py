@@ -52,6 +52,7 @@ from .vocabulary import (
     DELIMITERS,
     FRACTIONS,
     FUNCTION_COMMANDS,
+    NOT_READ,
     PRODUCT_OPERATORS,
     RELATION_TEXTS,
     SLASH_OPERATORS,
@@ -83,6 +84,8 @@ _COMMAND_READERS: dict[str, str] = {
     "\\sqrt": "root",
     "\\partial": "partial",
     "\\nabla": "gradient",
+    "\\underbrace": "layout_brace",
+    "\\overbrace": "layout_brace",
     "\\operatorname": "operatorname",
     "\\operatornamewithlimits": "operatorname",
     **{name: "function_command" for name in FUNCTION_COMMANDS},
@@ -208,6 +211,8 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
         """The kind of the innermost open bar (``abs``/``norm``), which a bar may close."""
         self.exponents = 0
         """How many power exponents the cursor is inside (for error messages)."""
+        self.matrix_env: str | None = None
+        """The environment of the innermost matrix literal being read (for error messages)."""
         self.readings: list[Reading] = []
         for span in self.s.cuts:
             self.note("tex-argument", span, "one digit is the argument, as in TeX")
@@ -245,15 +250,15 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
     def region(self, a: int, b: int, read: Callable[[], T]) -> T:
         """Run ``read`` on tokens ``[a, b)`` only, which it must use up; the cursor then
         stands where it stood before."""
-        saved = (self.s.pos, self.s.limit, self.open_bar)
-        self.s.pos, self.s.limit, self.open_bar = a, b, None
+        saved = (self.s.pos, self.s.limit, self.open_bar, self.matrix_env)
+        self.s.pos, self.s.limit, self.open_bar, self.matrix_env = a, b, None, None
         try:
             result = read()
             if self.s.pos < b:
                 raise self.s.unexpected(self.s.peek())
             return result
         finally:
-            self.s.pos, self.s.limit, self.open_bar = saved
+            self.s.pos, self.s.limit, self.open_bar, self.matrix_env = saved
 
     def attempt(self, read: Callable[[], T]) -> T | None:
         """Run ``read``; on a ParseError put everything back and return None."""
@@ -365,9 +370,13 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
                             f"as in TeX: write {{{previous.text}{tok.text}}} for the number {previous.text}{tok.text}",
                             previous.span.join(tok.span),
                         )
+                    advice = (
+                        f"separate the entries of the {self.matrix_env} with '&'" if self.matrix_env is not None
+                        else "write \\cdot between them"
+                    )
                     raise self.s.error(
                         f"two numbers side by side at {self.s.where(tok.span)} ('{previous.text} {tok.text}') "
-                        "are not read: write \\cdot between them",
+                        f"are not read: {advice}",
                         tok.span,
                     )
                 factors.append(self.factor())
@@ -452,7 +461,7 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
     def after_base(self, base: Base, start: int) -> Node:
         """A base's application (dual-role and declared functions) or its scripts."""
         if base.name in UNSUPPORTED_NAMES and base.name not in self.vocab.tensors:
-            raise self.s.error(f"{UNSUPPORTED_NAMES[base.name]} (at {self.s.where(base.span)})", base.span)
+            raise self.s.refuse(f"{UNSUPPORTED_NAMES[base.name]} (at {self.s.where(base.span)})", base.span)
         func, user = self._function_role(base)
         if func is not None and (self.at_paren() or (user and self._power_then_paren())):
             return self.function_call(func, user, start)
@@ -460,9 +469,9 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
         node = self.build_symbol(base, scripts, start)
         if self.at_paren() and scripts.primes and not self.s.peek().space_before:  # type: ignore[union-attr]
             span = node.span.join(self._paren_end())
-            raise self.s.error(
-                f"'{self.s.text_of(span)}' at {self.s.where(span)}: a primed function (a derivative in prime "
-                "notation) is not read; write the derivative out or name it",
+            raise self.s.refuse(
+                f"'{self.s.text_of(span)}' at {self.s.where(span)}: a derivative in prime notation is not "
+                "checked; write the derivative out or name it",
                 span,
             )
         if self.at_paren() and isinstance(node, n.Symbol):
@@ -560,7 +569,9 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
         if method is not None:
             return getattr(self, method)()  # type: ignore[no-any-return]
         if tok.text in UNSUPPORTED:
-            raise self.s.error(f"{UNSUPPORTED[tok.text]} (at {self.s.where(tok.span)})", tok.span)
+            raise self.s.refuse(f"{UNSUPPORTED[tok.text]} (at {self.s.where(tok.span)})", tok.span)
+        if tok.text in NOT_READ:
+            raise self.s.error(f"{NOT_READ[tok.text]} (at {self.s.where(tok.span)})", tok.span)
         if tok.text in SUPERSCRIPT_ONLY:
             place = "inside the exponent of a power" if self.exponents else "outside a superscript"
             raise self.s.error(

@@ -62,6 +62,9 @@ CONTINUATION_SYMBOLS = frozenset({"+", "-"})
 CONTINUATION_COMMANDS = frozenset({r"\cdot", r"\times"})
 #: Environments whose rows are the display's rows: their begin/end tokens are dropped.
 TRANSPARENT_ENVIRONMENTS = frozenset({"aligned", "split", "gathered", "alignedat", "multlined"})
+#: Layout commands whose one ``{…}`` argument is math standing where the command stands: the
+#: command and its braces are dropped (``\\lefteqn{(a+b)^2} \\\\ &=& …`` is one chain).
+UNWRAPPED_COMMANDS = frozenset({r"\lefteqn", r"\mathrlap", r"\mathllap", r"\mathclap"})
 #: Trailing punctuation dropped from sides.
 TRAILING_PUNCTUATION = frozenset({",", ".", ";"})
 

@@ -25,8 +25,14 @@ AMBIGUITY_RULES: dict[str, str] = {
     "slash": "a / b binds like juxtaposition, left to right: a/b c = (a/b) c, a b/c = (ab)/c",
     "function-applied": "a known function followed by a parenthesis (or a brace group) is applied to it",
     "function-next-factor": (
-        "a known function with no parenthesis takes the next power-level factor: "
-        "\\log x y = (\\log x) y, \\exp x^2 = \\exp(x^2), \\log\\det\\Sigma = logdet(\\Sigma)"
+        "a known function with no parenthesis whose argument starts with a symbol takes the next "
+        "power-level factor: \\log x y = (\\log x) y, \\exp x^2 = \\exp(x^2), \\log\\det\\Sigma = logdet(\\Sigma)"
+    ),
+    "function-number-argument": (
+        "a known function with no parenthesis whose argument starts with a number takes the number "
+        "and the symbols juxtaposed after it (a monomial): \\cos 2t = \\cos(2t), \\sin 2\\pi f t = "
+        "\\sin(2\\pi f t), \\log 2\\pi\\sigma^2 = \\log(2\\pi\\sigma^2); it stops at anything else "
+        "(\\cos 2t \\sin t, \\exp 3x (1+x))"
     ),
     "function-power": "a power written on a function applies to its value: \\cos^2 t = (\\cos t)^2",
     "dual-role-symbol": (
@@ -38,7 +44,11 @@ AMBIGUITY_RULES: dict[str, str] = {
         "^T ^\\top ^{\\mathsf T} ^\\intercal are a transpose; T elsewhere (T_{ij}) is a symbol"
     ),
     "inverse-transpose": "^{-T} and ^{-\\top} are the transpose of the inverse",
-    "superscript-label": "^{(l)}, ^{(2)} and ^* are part of the symbol's name (W^{(2)}, \\theta^{*})",
+    "superscript-label": (
+        "^{(l)}, ^{(2)}, ^{(enc)} and ^* are part of the symbol's name (W^{(2)}, \\theta^{*}): a "
+        "parenthesis of names or numbers only; one that holds an operator is an exponent "
+        "(x^{(n-1)} = x^{n-1}, e^{(a+b)} = e^{a+b})"
+    ),
     "label-then-mark": (
         "a superscript that starts with a label in parentheses and goes on with a transpose, an "
         "inverse or a whole-number power applies that mark to the labelled symbol: W^{(2)\\top} = "
@@ -209,41 +219,68 @@ BIG_OPERATORS: dict[str, str] = {"\\sum": "sum", "\\prod": "prod"}
 #: Fractions (all read alike).
 FRACTIONS = frozenset({"\\frac", "\\dfrac", "\\tfrac", "\\cfrac"})
 
-#: Commands and symbols the reader refuses, with the reason it gives.
+#: Commands the reader recognises but the tool does not check, with the message (it names the
+#: construct): the step is ``unsupported`` (SPEC §9), not a ``parse-error``.
 UNSUPPORTED: dict[str, str] = {
-    "\\pm": "\\pm is not read: write the two cases as separate steps",
-    "\\mp": "\\mp is not read: write the two cases as separate steps",
-    "\\int": "integrals are not read",
-    "\\iint": "integrals are not read",
-    "\\oint": "integrals are not read",
-    "\\lim": "limits are not read",
-    "\\max": "\\max is not read outside a subscript",
-    "\\min": "\\min is not read outside a subscript",
-    "\\sup": "\\sup is not read",
-    "\\inf": "\\inf is not read",
-    "\\arg": "\\arg is not read",
-    "\\cdots": "an ellipsis (\\cdots) is not read: write the expression out or use \\sum",
-    "\\ldots": "an ellipsis (\\ldots) is not read: write the expression out or use \\sum",
-    "\\dots": "an ellipsis (\\dots) is not read: write the expression out or use \\sum",
-    "\\dotsb": "an ellipsis (\\dotsb) is not read: write the expression out or use \\sum",
-    "\\vdots": "an ellipsis (\\vdots) is not read",
-    "\\ddots": "an ellipsis (\\ddots) is not read",
-    "\\infty": "\\infty is read only as a norm subscript (\\|x\\|_\\infty)",
-    "\\dagger": "^\\dagger (pseudo-inverse or adjoint) is not read",
-    "\\binom": "binomial coefficients are not read",
-    "\\choose": "binomial coefficients are not read",
-    "\\lfloor": "floor brackets are not read",
-    "\\lceil": "ceiling brackets are not read",
-    "\\rfloor": "floor brackets are not read",
-    "\\rceil": "ceiling brackets are not read",
-    "\\middle": "\\middle delimiters are not read",
-    "\\underbrace": "\\underbrace is not read: write the expression without it",
-    "\\overbrace": "\\overbrace is not read: write the expression without it",
-    "\\overset": "\\overset is read only over a relation",
-    "\\stackrel": "\\stackrel is read only over a relation",
-    "\\underset": "\\underset is read only under a relation",
+    "\\pm": "a plus-or-minus (\\pm) is not checked: write the two cases as separate steps",
+    "\\mp": "a minus-or-plus (\\mp) is not checked: write the two cases as separate steps",
+    "\\int": "an integral (\\int) is not checked",
+    "\\iint": "an integral (\\iint) is not checked",
+    "\\iiint": "an integral (\\iiint) is not checked",
+    "\\oint": "an integral (\\oint) is not checked",
+    "\\lim": "a limit (\\lim) is not checked",
+    "\\limsup": "a limit (\\limsup) is not checked",
+    "\\liminf": "a limit (\\liminf) is not checked",
+    "\\max": "a maximum (\\max) is not checked (\\max is read only as a subscript label)",
+    "\\min": "a minimum (\\min) is not checked (\\min is read only as a subscript label)",
+    "\\sup": "a supremum (\\sup) is not checked",
+    "\\inf": "an infimum (\\inf) is not checked",
+    "\\arg": "an argmin or argmax (\\arg) is not checked",
+    "\\cdots": "an ellipsis (\\cdots) is not checked: write the expression out or use \\sum",
+    "\\ldots": "an ellipsis (\\ldots) is not checked: write the expression out or use \\sum",
+    "\\dots": "an ellipsis (\\dots) is not checked: write the expression out or use \\sum",
+    "\\dotsb": "an ellipsis (\\dotsb) is not checked: write the expression out or use \\sum",
+    "\\dotsc": "an ellipsis (\\dotsc) is not checked: write the expression out or use \\sum",
+    "\\vdots": "an ellipsis (\\vdots) is not checked",
+    "\\ddots": "an ellipsis (\\ddots) is not checked",
+    "\\infty": "infinity (\\infty) as a value is not checked (it is read only as a norm subscript, \\|x\\|_\\infty)",
+    "\\dagger": "a pseudo-inverse or adjoint (\\dagger) is not checked",
+    "\\binom": "a binomial coefficient (\\binom) is not checked",
+    "\\choose": "a binomial coefficient (\\choose) is not checked",
+    "\\lfloor": "a floor (\\lfloor) is not checked",
+    "\\lceil": "a ceiling (\\lceil) is not checked",
+    "\\rfloor": "a floor (\\rfloor) is not checked",
+    "\\rceil": "a ceiling (\\rceil) is not checked",
+    "\\middle": "a \\middle delimiter (a conditional or set-builder bar) is not checked",
+    "\\overset": "a symbol set over another (\\overset) is not checked (it is read only over a relation)",
+    "\\stackrel": "a symbol set over another (\\stackrel) is not checked (it is read only over a relation)",
+    "\\underset": "a symbol set under another (\\underset) is not checked (it is read only under a relation)",
+}
+
+#: Commands the reader cannot read where they stand (a ``parse-error``), with the reason.
+NOT_READ: dict[str, str] = {
     "\\ast": "'\\ast' between factors is not read (write \\cdot or juxtapose)",
     "\\star": "'\\star' between factors is not read (write \\cdot or juxtapose)",
+}
+
+#: Environments the reader recognises inside an expression but the tool does not check.
+UNSUPPORTED_ENVIRONMENTS: dict[str, str] = {
+    "cases": "a case distinction (cases) is not checked: write each case as its own step",
+    "dcases": "a case distinction (dcases) is not checked: write each case as its own step",
+    "rcases": "a case distinction (rcases) is not checked: write each case as its own step",
+    "Vmatrix": (
+        "a matrix literal between double bars (Vmatrix) is not checked: write the norm with "
+        "\\|…\\|_F or \\|…\\|_2"
+    ),
+}
+
+#: Operator names (``\\operatorname{…}``, ``\\mathrm{…}``) of constructs the tool does not check,
+#: unless the document declares the name a function: a step that uses one is ``unsupported``.
+UNSUPPORTED_OPERATORS: dict[str, str] = {
+    "Cov": "a covariance (Cov)", "cov": "a covariance (cov)", "Var": "a variance (Var)",
+    "var": "a variance (var)", "Corr": "a correlation (Corr)", "corr": "a correlation (corr)",
+    "E": "an expectation (E)", "Pr": "a probability (Pr)", "KL": "a divergence (KL)",
+    "argmin": "an argmin", "argmax": "an argmax",
 }
 
 #: Commands that mean something only inside a superscript, with what to write instead (so an
@@ -266,17 +303,21 @@ SUPERSCRIPT_FORMS = (
     "power, or a label in parentheses optionally followed by one of those (^{(2)}, ^{(2)\\top}, ^{(2)-1})"
 )
 
-#: Characters the reader refuses where an operator or operand is due, with the reason.
+#: Characters the reader recognises but the tool does not check (``unsupported``), with the message.
 UNSUPPORTED_SYMBOLS: dict[str, str] = {
+    "!": "a factorial (!) is not checked",
+}
+
+#: Characters the reader cannot read where an operator or operand is due (``parse-error``).
+NOT_READ_SYMBOLS: dict[str, str] = {
     "*": "'*' is not read as a product: write \\cdot or put the factors side by side",
-    "!": "factorials are not read",
 }
 
 #: Symbol names the reader refuses (unless declared as tensors), with the reason it gives.
 UNSUPPORTED_NAMES: dict[str, str] = {
-    "\\mathbb{E}": "an expectation (\\mathbb{E}) is not read",
-    "\\mathbb{P}": "a probability (\\mathbb{P}) is not read",
-    "\\mathbb{V}": "a variance (\\mathbb{V}) is not read",
+    "\\mathbb{E}": "an expectation (\\mathbb{E}) is not checked",
+    "\\mathbb{P}": "a probability (\\mathbb{P}) is not checked",
+    "\\mathbb{V}": "a variance (\\mathbb{V}) is not checked",
 }
 
 # --------------------------------------------------------------------------- delimiters
@@ -317,6 +358,8 @@ DROPPED = frozenset(
         "\\textstyle", "\\scriptstyle", "\\scriptscriptstyle", "\\limits", "\\nolimits",
         "\\nonumber", "\\notag", "\\thinspace", "\\medspace", "\\thickspace", "\\negthinspace",
         "\\enspace", "\\allowbreak", "\\relax", "\\hfill", "\\nobreak", "\\negmedspace", "\\negthickspace",
+        # Layout wrappers: their argument stays, read as a brace group (the splitter unwraps them).
+        "\\lefteqn", "\\mathrlap", "\\mathllap", "\\mathclap",
     }
 )
 
@@ -362,8 +405,11 @@ SUPERSCRIPT_MARKS: dict[tuple[str, ...], str] = {
 #: Matrix environments → what the literal means (``det`` for vmatrix).
 MATRIX_ENVIRONMENTS: dict[str, str] = {
     "pmatrix": "matrix", "bmatrix": "matrix", "Bmatrix": "matrix", "matrix": "matrix",
-    "smallmatrix": "matrix", "vmatrix": "det",
+    "smallmatrix": "matrix", "psmallmatrix": "matrix", "bsmallmatrix": "matrix", "array": "matrix",
+    "vmatrix": "det", "vsmallmatrix": "det",
 }
+# The starred forms (``pmatrix*`` of mathtools) take a column alignment ``[r]`` and read alike.
+MATRIX_ENVIRONMENTS.update({name + "*": meaning for name, meaning in list(MATRIX_ENVIRONMENTS.items()) if name != "array"})
 
 #: Norm subscripts → ``Norm.kind``.
 NORM_KINDS: dict[tuple[str, ...], str] = {
