@@ -175,6 +175,93 @@ def test_annotation_before_a_relation_in_markdown_display() -> None:
     assert step_lines(structure(text, "md")) == ["doc.md:4:5 1.1 T = 2 w", "doc.md:5:3 1.2 2 w = w + w"]
 
 
+# A row that starts with + or - but has a relation of its own after an alignment mark starts a
+# new chain; its sign is unary (integrator's refinement of SPEC §3 after blind report item E).
+# A continuation row without such a relation keeps continuing.  Positions counted by hand.
+OPERATOR_ROW_CASES = [
+    (
+        "align-minus-row-with-its-own-relation",
+        "\\begin{align*}\n  x &= x \\\\\n  -y &= -y\n\\end{align*}\n",
+        ["doc.tex:2:8 1.1 x = x", "doc.tex:3:9 2.1 -y = -y"],
+    ),
+    (
+        "eqnarray-minus-row-with-its-own-relation",
+        "\\begin{eqnarray}\n  x &=& x \\\\\n  -y &=& -y\n\\end{eqnarray}\n",
+        ["doc.tex:2:9 1.1 x = x", "doc.tex:3:10 2.1 -y = -y"],
+    ),
+    (
+        "minus-row-with-an-aligned-inequality",
+        "\\begin{align}\n  x &\\ge 0 \\\\\n  -x &\\le 0\n\\end{align}\n",
+        ["doc.tex:2:10 1.1 x \\ge 0", "doc.tex:3:11 2.1 -x \\le 0"],
+    ),
+    (
+        "minus-row-without-a-relation-continues",
+        "\\begin{align}\n  f &= a \\\\\n  &\\quad - b \\\\\n  &= c\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 f = a \\\\\n  &\\quad - b", "doc.tex:4:6 1.2 a \\\\\n  &\\quad - b = c"],
+    ),
+    (
+        "eqnarray-empty-group-before-plus-continues",
+        "\\begin{eqnarray}\n  f &=& a + b \\nonumber\\\\\n    && {}+ c \\\\\n    &=& d\n\\end{eqnarray}\n",
+        [
+            "doc.tex:2:9 1.1 f = a + b \\nonumber\\\\\n    && {}+ c",
+            "doc.tex:4:9 1.2 a + b \\nonumber\\\\\n    && {}+ c = d",
+        ],
+    ),
+    (
+        "gather-minus-row-keeps-the-literal-rule",
+        "\\begin{gather}\n  x = x \\\\\n  -y = -y\n\\end{gather}\n",
+        ["doc.tex:2:7 1.1 x = x \\\\\n  -y", "doc.tex:3:8 1.2 x \\\\\n  -y = -y"],
+    ),
+]
+
+
+@pytest.mark.parametrize("text, expected", [c[1:] for c in OPERATOR_ROW_CASES], ids=[c[0] for c in OPERATOR_ROW_CASES])
+def test_operator_led_rows(text: str, expected: list[str]) -> None:
+    s = structure(text)
+    assert step_lines(s) == expected
+    assert s.unreadable == ()
+
+
+# Layout wrappers and matrix literals inside a step (blind report: \lefteqn, bmatrix).
+LAYOUT_CASES = [
+    (
+        "lefteqn-first-row-of-an-eqnarray",
+        "\\begin{eqnarray}\n\\lefteqn{(a+b)^2} \\nonumber\\\\\n&=& a^2+2ab+b^2\n\\end{eqnarray}\n",
+        ["doc.tex:3:5 1.1 (a+b)^2 = a^2+2ab+b^2"],
+    ),
+    (
+        "lefteqn-holding-a-relation-is-unwrapped",
+        "\\begin{eqnarray*}\n  \\lefteqn{L = \\|r\\|^2} \\\\\n    && {}+ \\lambda c\n\\end{eqnarray*}\n",
+        ["doc.tex:2:16 1.1 L = \\|r\\|^2} \\\\\n    && {}+ \\lambda c"],
+    ),
+    (
+        "scaled-bmatrix-literal-is-one-step",
+        "\\[ k = c \\begin{bmatrix} 1 & -1 \\\\ -1 & 1 \\end{bmatrix} \\]\n",
+        ["doc.tex:1:8 1.1 k = c \\begin{bmatrix} 1 & -1 \\\\ -1 & 1 \\end{bmatrix}"],
+    ),
+]
+
+
+@pytest.mark.parametrize("text, expected", [c[1:] for c in LAYOUT_CASES], ids=[c[0] for c in LAYOUT_CASES])
+def test_layout_wrappers_and_matrix_literals(text: str, expected: list[str]) -> None:
+    s = structure(text)
+    assert step_lines(s) == expected
+    assert s.unreadable == ()
+
+
+@pytest.mark.parametrize("env", ["bmatrix", "pmatrix", "array", "cases"])
+def test_column_marks_inside_an_environment_reach_the_reader(env: str) -> None:
+    """An ``&`` inside a matrix (or any environment) is a column mark, not an alignment mark:
+    the side and the row keep it; the alignment ``&`` of the display row is dropped."""
+    s = structure(f"\\begin{{align}}\n  K &= \\begin{{{env}}} a & b \\\\ c & d \\end{{{env}}}\n\\end{{align}}\n")
+    (chain,) = s.chains
+    (row,) = s.rows
+    for tokens in (chain.sides[1].tokens, row.tokens):
+        texts = [t.text for t in tokens]
+        assert texts.count("&") == 2 and texts.count("\\\\") == 1, texts
+    assert [t.text for t in chain.sides[0].tokens] == ["K"]
+
+
 RELATION_CASES = [
     ("=", "=", RelationKind.EQUAL, None),
     (":=", ":=", RelationKind.DEFINE, None),

@@ -18,8 +18,8 @@ from typing import Sequence
 from ..source import SourceText, Span
 from .relations import (
     ANNOTATIONS, CONTINUATION_COMMANDS, CONTINUATION_SYMBOLS, DELIMITER_TAKERS, DROPPED, DROPPED_WITH_GROUP,
-    DROPPED_WITH_TEXT, SEPARATORS, TRAILING_PUNCTUATION, TRANSPARENT_ENVIRONMENTS, FoundRelation,
-    relation_at, span_of, tokens_latex, walk,
+    DROPPED_WITH_TEXT, RELATIONS, SEPARATORS, TRAILING_PUNCTUATION, TRANSPARENT_ENVIRONMENTS, FoundRelation,
+    UNWRAPPED_COMMANDS, relation_at, span_of, tokens_latex, walk,
 )
 from .tokens import Token, TokenKind
 
@@ -60,8 +60,11 @@ class DraftError:
 
 def drop_transparent(tokens: Sequence[Token]) -> list[Token]:
     """Drop ``\\begin``/``\\end`` of ``aligned``/``split``/``gathered`` (and the
-    ``{n}`` of ``alignedat``, the ``[t]`` of ``aligned[t]``): their rows are the display's."""
+    ``{n}`` of ``alignedat``, the ``[t]`` of ``aligned[t]``): their rows are the display's.
+    Unwrap the layout commands of :data:`UNWRAPPED_COMMANDS` (``\\lefteqn{(a+b)^2}`` is
+    ``(a+b)^2``): their content is math at the depth the command stands at."""
     out: list[Token] = []
+    closers: set[int] = set()
     i, n = 0, len(tokens)
     while i < n:
         token = tokens[i]
@@ -70,7 +73,14 @@ def drop_transparent(tokens: Sequence[Token]) -> list[Token]:
             if token.kind is TokenKind.BEGIN:
                 i = _skip_environment_arguments(tokens, i)
             continue
-        out.append(token)
+        if token.kind is TokenKind.COMMAND and token.text in UNWRAPPED_COMMANDS:
+            end = _group_end(tokens, i + 1)
+            if end > i + 1:
+                closers.add(end - 1)
+                i += 2
+                continue
+        if i not in closers:
+            out.append(token)
         i += 1
     return out
 
@@ -122,6 +132,8 @@ def unit_at(tokens: Sequence[Token], i: int) -> tuple[int, str]:
     after_delimiter_taker = previous is not None and previous.kind is TokenKind.COMMAND and previous.text in DELIMITER_TAKERS
     if token.kind is TokenKind.COMMENT:
         return 1, SPACE
+    if _empty_group_spacer(tokens, i):
+        return 2, SPACE
     if token.kind is TokenKind.COMMAND and not after_script:
         return _command_unit(tokens, i)
     if token.is_symbol("(") and not after_delimiter_taker:
@@ -131,6 +143,22 @@ def unit_at(tokens: Sequence[Token], i: int) -> tuple[int, str]:
     if token.kind is TokenKind.SYMBOL and token.text in TRAILING_PUNCTUATION and not after_delimiter_taker:
         return 1, PUNCT
     return 1, OTHER
+
+
+def _empty_group_spacer(tokens: Sequence[Token], i: int) -> bool:
+    """``{}`` written for spacing (``&& {} + c``, ``x ={} y``): at the start, after a relation
+    or after spacing, and not before a script (``T^{i}{}_{j}`` keeps it)."""
+    if i + 1 >= len(tokens) or tokens[i].kind is not TokenKind.OPEN or tokens[i + 1].kind is not TokenKind.CLOSE:
+        return False
+    after = tokens[i + 2] if i + 2 < len(tokens) else None
+    if after is not None and after.kind in (TokenKind.SUB, TokenKind.SUP):
+        return False
+    before = tokens[i - 1] if i else None
+    if before is None or before.kind in (TokenKind.ALIGN, TokenKind.ROW_BREAK):
+        return True
+    if before.kind in (TokenKind.SYMBOL, TokenKind.COMMAND) and (before.text in RELATIONS or before.text in DROPPED or before.text in SEPARATORS):
+        return True
+    return False
 
 
 def _annotation_length(tokens: Sequence[Token], i: int) -> int:
@@ -191,12 +219,46 @@ class CleanRow:
 
     tokens: tuple[Token, ...]
     no_sum: bool
+    aligned_relation: bool = False
+    """A top-level relation of the row stands right after an alignment ``&`` that follows
+    some of the row's own text (``-y &= -y``): the row has a relation of its own."""
+
+
+def drop_alignment(tokens: Sequence[Token]) -> list[Token]:
+    """Tokens without comments and without alignment ``&``; an ``&`` inside an environment
+    (a column of a ``bmatrix``, an ``array``, ``cases``) is no alignment mark and stays."""
+    return _strip(tokens)[0]
+
+
+def _strip(row: Sequence[Token]) -> tuple[list[Token], list[bool]]:
+    """:func:`drop_alignment`, and per kept token whether a top-level alignment ``&`` stood
+    right before it."""
+    kept: list[Token] = []
+    after: list[bool] = []
+    environments = 0
+    pending = False
+    for index, depth, _ in walk(row):
+        token = row[index]
+        if token.kind is TokenKind.BEGIN:
+            environments += 1
+        elif token.kind is TokenKind.END:
+            environments = max(environments - 1, 0)
+        if token.kind is TokenKind.COMMENT:
+            continue
+        if token.kind is TokenKind.ALIGN and environments == 0:
+            pending = pending or depth == 0
+            continue
+        kept.append(token)
+        after.append(pending)
+        pending = False
+    return kept, after
 
 
 def clean_row(row: Sequence[Token]) -> CleanRow:
     """Trim a row's leading and trailing annotations (SPEC §3: "an annotation at the end
-    of a row is dropped"); note a ``\\text{(no sum)}`` anywhere in it."""
-    tokens = [t for t in row if t.kind not in (TokenKind.ALIGN, TokenKind.COMMENT)]
+    of a row is dropped"); note a ``\\text{(no sum)}`` anywhere in it, and whether a relation
+    of its own follows an alignment mark (:attr:`CleanRow.aligned_relation`)."""
+    tokens, after = _strip(row)
     cut = units(tokens)
     no_sum = any(cat == NOTE and is_no_sum(tokens[s : s + n]) for s, n, cat in cut)
     first, last = 0, len(cut)
@@ -207,7 +269,33 @@ def clean_row(row: Sequence[Token]) -> CleanRow:
     if first >= last:
         return CleanRow((), no_sum)
     start, end = cut[first][0], cut[last - 1][0] + cut[last - 1][1]
-    return CleanRow(tuple(tokens[start:end]), no_sum)
+    return CleanRow(tuple(tokens[start:end]), no_sum, _aligned_relation(tokens[start:end], after[start:end]))
+
+
+def _aligned_relation(tokens: Sequence[Token], after: Sequence[bool]) -> bool:
+    """Whether a depth-0 relation stands after an alignment mark that is not the row's
+    first thing (``-y &= -y``, ``-y &=& -y``, ``-y & \\le 0``), spacing skipped."""
+    info = list(walk(tokens))
+    n = len(tokens)
+    for i in range(1, n):
+        if not after[i]:
+            continue
+        j = i
+        while j < n and unit_at(tokens, j)[1] == SPACE:
+            j += unit_at(tokens, j)[0]
+        if j < n and info[j][1] == 0 and not info[j][2] and relation_at(tokens, j) is not None:
+            return True
+    return False
+
+
+def starts_with_operator(tokens: Sequence[Token]) -> bool:
+    """Whether a cleaned row starts with ``+ - \\cdot \\times``."""
+    if not tokens:
+        return False
+    first = tokens[0]
+    if first.kind is TokenKind.SYMBOL and first.text in CONTINUATION_SYMBOLS:
+        return True
+    return first.kind is TokenKind.COMMAND and first.text in CONTINUATION_COMMANDS
 
 
 def continues(tokens: Sequence[Token]) -> bool:
@@ -215,12 +303,18 @@ def continues(tokens: Sequence[Token]) -> bool:
     with ``+ - \\cdot \\times``)."""
     if not tokens:
         return False
-    first = tokens[0]
-    if first.kind is TokenKind.SYMBOL and first.text in CONTINUATION_SYMBOLS:
+    return starts_with_operator(tokens) or relation_at(tokens, 0) is not None
+
+
+def continues_row(row: CleanRow) -> bool:
+    """Whether a cleaned row continues the previous one (SPEC §3, refined): it starts with a
+    relation (``&= D``), or with an operator and has no aligned relation of its own.  A row
+    ``-y &= -y`` starts a new chain: its leading sign is unary.  ``&\\quad + c`` continues."""
+    if not row.tokens:
+        return False
+    if relation_at(row.tokens, 0) is not None:
         return True
-    if first.kind is TokenKind.COMMAND and first.text in CONTINUATION_COMMANDS:
-        return True
-    return relation_at(tokens, 0) is not None
+    return starts_with_operator(row.tokens) and not row.aligned_relation
 
 
 def logical_lines(rows: Sequence[CleanRow], join_all: bool = False) -> list[list[Placed]]:
@@ -230,7 +324,7 @@ def logical_lines(rows: Sequence[CleanRow], join_all: bool = False) -> list[list
         if not row.tokens:
             continue
         placed = [Placed(t, index) for t in row.tokens]
-        if lines and (join_all or continues(row.tokens)):
+        if lines and (join_all or continues_row(row)):
             lines[-1].extend(placed)
         else:
             lines.append(placed)

@@ -19,7 +19,10 @@ from ..documents.model import BlockKind, Document, Excerpt, MathBlock
 from ..source import SourceError, SourceText, Span
 from .chains import Chain, Relation, Row, Side, Structure, Unreadable
 from .expand import Expander, MacroTable
-from .rows import ChainDraft, DraftError, chains_of_line, clean_row, drop_transparent, logical_lines, relation_text, split_rows
+from .rows import (
+    ChainDraft, DraftError, chains_of_line, clean_row, drop_alignment, drop_transparent, logical_lines, relation_text,
+    split_rows,
+)
 from .relations import span_of
 from .tokens import MathSyntaxError, Token, TokenKind, tokenize
 
@@ -261,8 +264,9 @@ def _chain(source: SourceText, number: int, draft: ChainDraft, no_sum: bool, ski
 
 
 def _math_only(tokens: list[Token]) -> list[Token]:
-    """Tokens without alignment marks and comments (what a :class:`Row` holds)."""
-    return [t for t in tokens if t.kind not in (TokenKind.ALIGN, TokenKind.COMMENT)]
+    """Tokens without alignment marks and comments (what a :class:`Row` holds); the ``&`` of
+    a matrix literal's columns is no alignment mark and stays."""
+    return drop_alignment(tokens)
 
 
 def _to_file(excerpt: Excerpt, span: Span) -> Span:
