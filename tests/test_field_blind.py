@@ -43,28 +43,10 @@ VERDICTS = {
 DOCUMENT_SUFFIXES = (".tex", ".md", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-_MINUS_ROW = (
-    "splitting: the row `-g^T v &= \\nu` is glued onto the row above as a continuation (SPEC §3 "
-    "read literally: a row beginning with `-`), though it has its own relation"
-)
-
 KNOWN: dict[str, str] = {
-    "irrigation-pump-newton.tex:48:44": _MINUS_ROW,
-    "irrigation-pump-newton.tex:49:16": _MINUS_ROW,
     "frost-forecast-elbo.md:43:39": (
         "sampling: a lower-triangular L is drawn with a zero diagonal entry, so log det(L L^T) is "
         "undefined; the gradient evaluates to 0 and a false 'fails' with a 'symmetric' hint follows"
-    ),
-    "rosette-uncertainty.md:53:47": (
-        "reader: the unknown operator \\operatorname{Cov} is applied as if elementwise (3 x 1), "
-        "giving a false shape-error instead of an honest unsupported"
-    ),
-    "gantry-sign-sway.md:33:101": (
-        "parser: `\\cos 2\\theta` is read as cos(2) * theta; common practice reads cos(2 theta)"
-    ),
-    "gantry-sign-sway.md:43:13": (
-        "parser: a `\\sim` step, which SPEC reports as skipped, is a parse-error because the "
-        "right side `\\mathcal{N}(0, 0.01)` has two arguments"
     ),
 }
 
