@@ -111,3 +111,20 @@ def test_a_matrix_literal_inside_a_step_is_read(lhs: str, rhs: str, verdict: str
     # blind report: the `&` inside bmatrix was dropped, giving "two numbers side by side … \cdot"
     (step,) = _verdicts(BAR.format(lhs=lhs, rhs=rhs))
     assert step[1] == verdict
+
+
+def test_an_iteration_counter_names_the_iterate_and_euler_e_keeps_its_exponent():
+    # GIVEN a gradient-descent update written with iteration counters (common practice in
+    # optimisation notes), WHEN checked, THEN w^{(t+1)} is a symbol of its own that the first
+    # step defines and the expansion holds; e^{(a+b)} is still the exponential.
+    doc = r"""A heating-curve fit: $X \in \mathbb{R}^{n\times d}$, $\mathbf{y} \in \mathbb{R}^{n}$,
+$\mathbf{w}^{(t)} \in \mathbb{R}^{d}$, step $\eta > 0$.
+\begin{align}
+  \mathbf{w}^{(t+1)} &= \mathbf{w}^{(t)} - \eta X^\top(X\mathbf{w}^{(t)} - \mathbf{y}) \\
+  &= (I - \eta X^\top X)\mathbf{w}^{(t)} + \eta X^\top \mathbf{y} \\
+  &= (I - \eta X X^\top)\mathbf{w}^{(t)} + \eta X^\top \mathbf{y} , \\
+  e^{(a+b)} &= e^{a} e^{b}
+\end{align}
+"""
+    report = stepcheck.check_text(doc, "tex")
+    assert [s.verdict.value for s in report.steps()] == ["defines", "holds", "shape-error", "holds"]

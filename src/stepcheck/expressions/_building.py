@@ -12,7 +12,7 @@ from typing import TYPE_CHECKING, Callable
 
 from ..source import Span
 from . import nodes as n
-from ._symbols import Base, Entry, Script, Scripts
+from ._symbols import Base, Entry, Script, Scripts, _closing_paren
 from .tokens import TokenKind
 from .vocabulary import GREEK
 
@@ -68,6 +68,9 @@ class SymbolBuilding:
                 self.note("label-then-mark", item.span, f"^{{{sup_label}}} is part of the name; the rest applies to the labelled symbol")
                 item = rest
             kind, label = self.sup_kind(item)
+            if kind == "power" and special != "e":
+                label = self._counter_label(item)
+                kind = "label" if label is not None else kind
             if kind == "label":
                 if sup_label is not None:
                     raise self.s.error(f"a second superscript label at {self.s.where(item.span)}", item.span)
@@ -105,6 +108,15 @@ class SymbolBuilding:
         for item, kind in powers:
             node = self.apply_sup(node, item, kind, node.span.join(item.span))
         return node
+
+    def _counter_label(self, item: Script) -> str | None:
+        """Rule ``superscript-label``: a superscript that is one parenthesised group holding an
+        operator names the symbol too (an iteration counter, ``w^{(t+1)}``, ``h^{(l-1)}``); only
+        on Euler's e is it an exponent (``e^{(a+b)}``)."""
+        toks = self.s.tokens[item.start : item.end]
+        if len(toks) < 3 or not toks[0].is_symbol("(") or _closing_paren(toks) != len(toks) - 1:
+            return None
+        return "".join(self.s.text_of(toks[0].span.join(toks[-1].span)).split())
 
     def _special(self, base: Base) -> str | None:
         """Which special a base can be (SPEC §7), unless declared an ordinary tensor."""

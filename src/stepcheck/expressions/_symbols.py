@@ -477,13 +477,9 @@ class SymbolReading:
         rest_toks = toks[rest.start : rest.end]
         if label is None:
             if _mark_key(rest_toks) in _MARKS_AFTER_LABEL:
+                # an iteration counter then a mark: w^{(t+1)\top} (rule superscript-label)
                 group = self.s.text_of(toks[script.start].span.join(toks[close].span))
-                raise self.s.error(
-                    f"the superscript '{self.s.text_of(script.span)}' at {self.s.where(script.span)}: '{group}' holds "
-                    "an operator, so it is an exponent, not a label (only names and numbers make a label, as in "
-                    "^{(k)\\top}), and a transpose mark cannot follow an exponent",
-                    script.span,
-                )
+                return "".join(group.split()), rest
             return None
         if _mark_key(rest_toks) in _MARKS_AFTER_LABEL or _whole_power(rest_toks):
             return label, rest

@@ -45,9 +45,10 @@ AMBIGUITY_RULES: dict[str, str] = {
     ),
     "inverse-transpose": "^{-T} and ^{-\\top} are the transpose of the inverse",
     "superscript-label": (
-        "^{(l)}, ^{(2)}, ^{(enc)} and ^* are part of the symbol's name (W^{(2)}, \\theta^{*}): a "
-        "parenthesis of names or numbers only; one that holds an operator is an exponent "
-        "(x^{(n-1)} = x^{n-1}, e^{(a+b)} = e^{a+b})"
+        "^{(l)}, ^{(2)}, ^{(enc)}, ^{(t+1)} and ^* are part of the symbol's name (W^{(2)}, "
+        "\\theta^{*}, an iteration counter w^{(t+1)}): a superscript that is one parenthesised "
+        "group names the symbol; only on Euler's e is it an exponent (e^{(a+b)} = e^{a+b}); a "
+        "parenthesis followed by more (x^{(n-1)/2}) is an exponent"
     ),
     "label-then-mark": (
         "a superscript that starts with a label in parentheses and goes on with a transpose, an "
