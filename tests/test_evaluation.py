@@ -434,7 +434,7 @@ def test_no_sum_mark_of_a_row_does_not_reach_the_definitions_it_uses():
 def test_symbols_with_indices_and_no_shape_get_axes_from_their_index_ranges():
     outcome = decide_latex(r"x_i y_i", r"y_j x_j")
     assert outcome.verdict is Verdict.HOLDS
-    assert outcome.message == "held exactly on 8 random draws at sizes i=2 and i=3"
+    assert outcome.message == "held exactly on 8 random draws at sizes 2 and 3"
 
 
 def test_bare_gradient_takes_the_one_input():

@@ -147,3 +147,88 @@ def test_float_counterexample_values_are_numbers():
     a, b = fraction(cx["inputs"]["a"]), fraction(cx["inputs"]["b"])
     assert abs(cx["lhs"] - np.sin(float(a + b))) < 1e-9
     assert abs(cx["rhs"] - (np.sin(float(a)) + np.sin(float(b)))) < 1e-9
+
+
+# --------------------------------------------------------------------------- counterexamples a person can check
+
+
+def test_size_one_hint_through_a_definition_with_an_identity():
+    # GIVEN a soil-moisture prior K = aC + bI (at n = 1 every matrix is a scalar), WHEN the
+    # trace of a product is split into a product of traces, THEN the hint says it holds only
+    # at n = 1 (tr(AB) = tr(A)tr(B) for 1×1 matrices; common practice).
+    outcome = decide_latex(r"\operatorname{tr}(K^{-1} C)", r"\operatorname{tr}(K^{-1})\operatorname{tr}(C)",
+                           shapes={"C": ("n", "n"), "K": ("n", "n")}, assumptions={"C": {"spd"}, "a": {"positive"}, "b": {"positive"}},
+                           definitions={"K": r"a C + b I"})
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == "holds only when n = 1"
+
+
+KALMAN = {
+    "shapes": {"P": ("s", "s"), "H": ("q", "s"), "R": ("q", "q"), "S": ("q", "q"), "K": ("s", "q")},
+    "assumptions": {"P": {"spd"}, "R": {"spd"}},
+    "definitions": {"S": r"H P H^\top + R", "K": r"P H^\top S^{-1}"},
+}
+
+
+def test_counterexample_lists_the_defined_intermediates_and_they_recompute_the_sides():
+    # GIVEN a battery cell's Kalman update with S = HPHᵀ + R and K = PHᵀS⁻¹, WHEN the gain
+    # term tr(KSKᵀ) is written without S⁻¹ (it equals tr(PHᵀS⁻¹HP); common practice), THEN
+    # the counterexample lists K and S, which numpy recomputes exactly from the inputs, and
+    # the left side recomputes from K and S.
+    outcome = decide_latex(r"\operatorname{tr}(K S K^\top)", r"\operatorname{tr}(P H^\top H P)", **KALMAN)
+    assert outcome.verdict is Verdict.FAILS
+    cx = outcome.counterexample
+    json.dumps(cx)
+    p, h, r = (exact(cx["inputs"][k]) for k in ("P", "H", "R"))
+    s = h.dot(p).dot(h.T) + r
+    s_inv = np.array(sympy_inverse(s), dtype=object)
+    k = p.dot(h.T).dot(s_inv)
+    assert np.array_equal(exact(cx["defined"]["S"]).reshape(s.shape), s)
+    assert np.array_equal(exact(cx["defined"]["K"]).reshape(k.shape), k)
+    assert fraction(cx["lhs"]) == np.trace(k.dot(s).dot(k.T))
+    assert fraction(cx["rhs"]) == np.trace(p.dot(h.T).dot(h).dot(p))
+
+
+def sympy_inverse(m):
+    import sympy
+
+    return sympy.Matrix([[sympy.Rational(x.numerator, x.denominator) for x in row] for row in m]).inv().applyfunc(
+        lambda v: Fraction(int(v.p), int(v.q))
+    ).tolist()
+
+
+ATTENTION = {
+    "shapes": {"q": ("d",), "K": ("n", "d"), "V": ("n", "m"), "s": ("n",), "p": ("n",), "o": ("m",)},
+    "definitions": {
+        r"\mathbf{s}": r"\frac{1}{\sqrt{d}}\, K\mathbf{q}",
+        r"\mathbf{p}": r"\operatorname{softmax}(\mathbf{s})",
+        r"\mathbf{o}": r"V^\top \mathbf{p}",
+    },
+}
+
+
+def test_layout_counterexample_is_not_all_zeros():
+    # the softmax Jacobian diag(p) − ppᵀ is 0 at n = 1, so a layout mistake shown there
+    # explains nothing: the counterexample takes the smallest sizes with a nonzero entry
+    outcome = decide_latex(r"\frac{\partial \mathbf{o}}{\partial \mathbf{s}}",
+                           r"\left(\operatorname{diag}(\mathbf{p}) - \mathbf{p}\mathbf{p}^\top\right) V", **ATTENTION)
+    assert outcome.verdict is Verdict.FAILS
+    cx = outcome.counterexample
+    assert cx["sizes"]["n"] >= 2
+    values = np.ravel(np.array(cx["lhs"], dtype=object))
+    assert any(v != 0 for v in values)
+    assert set(cx["defined"]) >= {"p", "s"}
+
+
+def test_counterexample_sides_never_print_the_same():
+    # a heat exchanger's correction e^{-30-t²} is below twelve digits: both sides would
+    # print as 1, so they are printed with enough digits to differ
+    outcome = decide_latex(r"1 + e^{-30 - t^2}", r"1")
+    assert outcome.verdict is Verdict.FAILS
+    cx = outcome.counterexample
+    assert str(cx["lhs"]) != str(cx["rhs"])
+    t = fraction(cx["inputs"]["t"])
+    import mpmath
+
+    with mpmath.workdps(40):
+        assert abs(mpmath.mpf(cx["lhs"]) - (1 + mpmath.exp(-30 - mpmath.mpf(t.numerator) ** 2 / t.denominator**2))) < 1e-20

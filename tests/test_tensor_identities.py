@@ -45,7 +45,20 @@ def test_identity_is_proved(lhs, rhs, shapes):
     outcome = decide_latex(lhs, rhs, shapes=shapes)
     assert outcome.verdict is Verdict.HOLDS, outcome.message
     assert outcome.method is Method.SYMBOLIC
-    assert outcome.message.startswith("proved symbolically at the fixed sizes")
+    assert outcome.message.startswith("proved symbolically at ")
+
+
+@pytest.mark.parametrize("lhs, rhs, shapes, message", [
+    pytest.param(r"\epsilon_{ijk}\epsilon_{imn}", r"\delta_{jm}\delta_{kn} - \delta_{jn}\delta_{km}", {},
+                 "proved symbolically at size 3 (Levi-Civita)", id="levi-civita-range"),
+    pytest.param(r"\epsilon_{ij}\epsilon_{ij}", r"2", {}, "proved symbolically at size 2 (Levi-Civita)", id="order-two"),
+    pytest.param(r"\epsilon_{ijk} a_j b_k", r"(\mathbf{a} \times \mathbf{b})_i", V3,
+                 "proved symbolically at the fixed sizes d=3", id="dimension-letter-wins"),
+])
+def test_fixed_sizes_are_named_by_what_fixed_them(lhs, rhs, shapes, message):
+    # an index letter is not a size's name ("i=3" reads as a component): a range with no
+    # dimension letter is named by what fixed it
+    assert decide_latex(lhs, rhs, shapes=shapes).message == message
 
 
 WRONG = [

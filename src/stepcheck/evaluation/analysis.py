@@ -45,6 +45,8 @@ class UnionFind:
     def __init__(self) -> None:
         self.parent: dict[Key, Key] = {}
         self.fixed: dict[Key, int] = {}
+        self.reasons: dict[Key, str] = {}
+        """Root → what fixed its size (``"Levi-Civita"``, ``"cross product"``)."""
         self.order: list[Key] = []
         self.conflicts: list[tuple[int, int]] = []
 
@@ -77,13 +79,17 @@ class UnionFind:
         if fa is None and fb is not None:
             self.fixed[ra] = fb
         self.fixed.pop(rb, None)
+        if rb in self.reasons:
+            self.reasons.setdefault(ra, self.reasons.pop(rb))
 
-    def fix(self, key: Key, size: int) -> None:
+    def fix(self, key: Key, size: int, reason: str | None = None) -> None:
         root = self.find(key)
         if root in self.fixed and self.fixed[root] != size:
             self.conflicts.append((self.fixed[root], size))
             return
         self.fixed[root] = size
+        if reason is not None:
+            self.reasons.setdefault(root, reason)
 
 
 def dim_key(dim: int | str) -> Key:
@@ -144,6 +150,8 @@ class Analysis:
     """An integer power too large to expand symbolically."""
     huge_power: bool = False
     """An integer power too large to evaluate in exact arithmetic."""
+    definitions_used: list[str] = field(default_factory=list)
+    """Defined symbols the step reaches (through other definitions too), in order."""
     metric: str | None = None
     """Up-down mode with a ``metric`` directive: the metric's name."""
     homes: dict[str, tuple[bool, ...]] = field(default_factory=dict)
@@ -247,6 +255,8 @@ class Walker:
         if marker in self._visited_defs:
             return
         self._visited_defs.add(marker)
+        if name not in self.a.definitions_used:
+            self.a.definitions_used.append(name)
         self._visiting.append(name)
         try:
             self.visit(definition.body, def_scope, frozen, params, in_diff)
@@ -261,7 +271,7 @@ class Walker:
     def visit_LeviCivita(self, node: N.LeviCivita, scope, *_) -> None:
         for s in node.subs:
             if isinstance(s, N.Index):
-                self.a.uf.fix(self._index(s, scope), len(node.subs))
+                self.a.uf.fix(self._index(s, scope), len(node.subs), "Levi-Civita")
 
     def visit_Identity(self, node, *_) -> None:
         if isinstance(node.size, str):
@@ -500,7 +510,7 @@ class Walker:
                 if spec is not None and len(spec.axes) == 1:
                     root = self.a.uf.find(spec.axes[0])
                     if root not in self.a.uf.fixed:
-                        self.a.uf.fix(root, 3)
+                        self.a.uf.fix(root, 3, "cross product")
 
 
 def _moved_keys(written: list[tuple[tuple[bool, ...], tuple]], home: tuple[bool, ...]) -> list[Key]:

@@ -22,6 +22,7 @@ from .compare import Aligned, NeedFloat
 from .compiled import CompiledStep, compile_step
 from .lower import Lowerer
 from .model import FLOAT_DPS, HIGH_DPS, Env, Model
+from .sizes import named_only, sizes_phrase
 from .sampling import Drawer, candidate_assignments, free_classes, size_assignments
 from .values import EvaluationError, IndexMismatch, OutOfDomain, ShapeMismatch, Unsupported
 
@@ -276,8 +277,7 @@ class Decider:
         return Outcome(Verdict.HOLDS, _method(mode), message=self._with_notes(message))
 
     def _held(self, mode: str, count: int, models: list[Model], worst: float, deepest: int = FLOAT_DPS) -> str:
-        sizes = " and ".join(m.sizes_text() for m in models)
-        where = f"at sizes {sizes}" if any(m.display_sizes() for m in models) else "(scalar inputs)"
+        where = sizes_phrase(models) or "(scalar inputs)"
         if self.relation is RelationKind.NOT_EQUAL:
             return f"the sides differed on every one of {count} random draws {where}"
         if self.relation in (RelationKind.ORDER, RelationKind.LOEWNER):
@@ -323,10 +323,11 @@ class Decider:
             if not _vanishes(x - y, rational=not self.analysis.transcendental):
                 return None
         self.notes.extend(n for n in lw.notes if n not in self.notes)
-        shown = model.display_sizes()
-        if shown:
+        if not model.sizes_text():
+            return "proved symbolically"
+        if named_only(model):
             return "proved symbolically at the fixed sizes " + model.sizes_text()
-        return "proved symbolically"
+        return "proved symbolically " + sizes_phrase([model])
 
 
 def _skipped_text(skipped: list[tuple[Model, AssignmentOutOfDomain]]) -> str:

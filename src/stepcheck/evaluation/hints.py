@@ -24,7 +24,16 @@ from ..verdicts import RelationKind
 from . import compare
 from .compare import Aligned, NeedFloat
 from .model import Env, Model
-from .sampling import candidate_assignments, free_classes, inputs_json, size_assignments, small_assignments, to_json_array
+from .sampling import (
+    PRECISE_DIGITS,
+    candidate_assignments,
+    free_classes,
+    inputs_json,
+    size_assignments,
+    small_assignments,
+    to_json_array,
+)
+from .sizes import SizeClass, size_classes, sizes_phrase
 from .values import EvaluationError, Value
 
 if TYPE_CHECKING:
@@ -49,27 +58,69 @@ def diagnose(decider: Decider, model: Model, env: Env, aligned: Aligned, mode: s
         hint = _first_hint(decider, model, aligned, mode)
     found = _smallest_counterexample(decider, mode)
     cx_model, cx_env, cx_aligned = found if found is not None else (model, env, aligned)
-    return hint, counterexample(cx_model, cx_env, cx_aligned), _message(decider, cx_model, cx_aligned)
+    return hint, counterexample(decider, cx_model, cx_env, cx_aligned), _message(decider, cx_model, cx_aligned)
 
 
-def counterexample(model: Model, env: Env, aligned: Aligned) -> dict[str, Any]:
-    """The JSON-ready counterexample (SPEC §9)."""
-    rhs = aligned.rhs
-    if aligned.transposed:
-        rhs = compare._transpose(rhs)
+def counterexample(decider: Decider, model: Model, env: Env, aligned: Aligned) -> dict[str, Any]:
+    """The JSON-ready counterexample (SPEC §9): sizes, inputs, the values of the defined
+    symbols the step uses (so the sides can be recomputed by hand), both sides."""
+    lhs, rhs = _shown(aligned)
+    if not _visible(decider, aligned):  # the difference is below 12 digits: print more
+        lhs, rhs = _shown(aligned, PRECISE_DIGITS)
     data: dict[str, Any] = {
         "sizes": model.display_sizes(),
         "inputs": inputs_json(model, env),
-        "lhs": to_json_array(aligned.lhs.data),
-        "rhs": to_json_array(rhs.data),
     }
+    defined = _defined_values(decider, model, env)
+    if defined:
+        data["defined"] = defined
+    data["lhs"], data["rhs"] = lhs, rhs
     if aligned.lhs.labels:
         data["indices"] = list(aligned.lhs.labels)
     return data
 
 
+def _shown(aligned: Aligned, digits: int | None = None) -> tuple[Any, Any]:
+    """Both sides as printed (the right side in its own shape when it was transposed)."""
+    rhs = compare._transpose(aligned.rhs) if aligned.transposed else aligned.rhs
+    return to_json_array(aligned.lhs.data, digits=digits), to_json_array(rhs.data, digits=digits)
+
+
+def _defined_values(decider: Decider, model: Model, env: Env) -> dict[str, Any]:
+    """Each defined symbol the step uses, at the counterexample's draw (definitions with
+    an argument list are functions, not values, and are left out)."""
+    from .lower import Lowerer
+
+    out: dict[str, Any] = {}
+    lowerer = Lowerer(model, env)
+    for name in decider.analysis.definitions_used:
+        definition = decider.context.definitions.get(name)
+        if definition is None or definition.params:
+            continue
+        try:
+            value = lowerer.lower(N.Symbol(name, (), False, definition.span))
+        except EvaluationError:
+            continue
+        if isinstance(value, Value):
+            out[name] = to_json_array(value.data)
+    return out
+
+
+def _visible(decider: Decider, aligned: Aligned) -> bool:
+    """Whether a failing draw shows the failure in print: for an equality, the printed
+    sides differ (a layout mistake: some entry is not zero) — at n=1 a softmax Jacobian
+    is 0 on both sides, which explains nothing."""
+    if decider.relation not in (RelationKind.EQUAL, RelationKind.EQUIV, RelationKind.DEFINE):
+        return True
+    lhs, rhs = _shown(aligned)
+    left, right = _flat(lhs), _flat(rhs)
+    if aligned.transposed:
+        return any(x != 0 for x in left + right)
+    return left != right
+
+
 def _message(decider: Decider, model: Model, aligned: Aligned) -> str:
-    where = f"at sizes {model.sizes_text()}" if model.display_sizes() else "at scalar inputs"
+    where = sizes_phrase([model]) or "at scalar inputs"
     kind = decider.relation
     if kind is RelationKind.NOT_EQUAL:
         return f"the sides are equal on a draw {where}"
@@ -249,12 +300,12 @@ def _size_one_hint(decider: Decider, model: Model, mode: str) -> str | None:
     free = free_classes(decider.analysis)
     if not free:
         return None
-    names = {root: name for root, name in _names(model).items()}
+    names = {c.root: c for c in size_classes(decider.analysis)}
     for root in free:
         sizes = dict(model.sizes)
         sizes[root] = 1
         if _variant_holds(decider, [sizes], mode, _equal(mode)):
-            return f"holds only when {names.get(root, 'a size')} = 1"
+            return _size_one_text(names.get(root))
     if len(free) > 1:
         sizes = {root: 1 for root in free}
         if _variant_holds(decider, [sizes], mode, _equal(mode)):
@@ -262,10 +313,15 @@ def _size_one_hint(decider: Decider, model: Model, mode: str) -> str | None:
     return None
 
 
-def _names(model: Model) -> dict:
-    from .model import _class_names
-
-    return _class_names(model.analysis)
+def _size_one_text(c: SizeClass | None) -> str:
+    """The size-one hint, naming the size by its dimension letter, else by the indices
+    that range over it."""
+    if c is not None and c.letter is not None:
+        return f"holds only when {c.letter} = 1"
+    if c is not None and c.indices:
+        verb = "ranges" if len(c.indices) == 1 else "range"
+        return f"holds only when {', '.join(c.indices)} {verb} over one value"
+    return "holds only for a size of 1"
 
 
 def _swapped_hint(decider: Decider, model: Model, assignments: list[dict], mode: str) -> str | None:
@@ -293,8 +349,14 @@ def _smallest_counterexample(decider: Decider, mode: str) -> tuple[Model, Env, A
         for small, count in ((True, 4), (False, 2)):
             try:
                 for trial in decider.trials(model, rng, count, mode, small=small):
-                    if not trial.ok:
+                    if not trial.ok and _visible(decider, trial.aligned):
                         return model, trial.env, trial.aligned
             except (EvaluationError, NeedFloat):
                 break
     return None
+
+
+def _flat(value: Any) -> list:
+    if isinstance(value, list):
+        return [x for item in value for x in _flat(item)]
+    return [value]

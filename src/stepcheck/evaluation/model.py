@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 import sympy
 
+from . import sizes
 from .analysis import Analysis, InputSpec, Key
 from .values import obj_array
 
@@ -156,44 +157,9 @@ class Model:
         return table
 
     def display_sizes(self) -> dict[str, int]:
-        """Sizes by a readable name (a dimension letter, else an index letter)."""
-        out: dict[str, int] = {}
-        names = _class_names(self.analysis)
-        for root, name in names.items():
-            try:
-                out[name] = self.size_of(root)
-            except KeyError:  # pragma: no cover
-                continue
-        return out
+        """Sizes by class (a dimension letter, else the index letters ranging over it)."""
+        return sizes.display_sizes(self)
 
     def sizes_text(self) -> str:
-        """``n=2,d=3`` (or ``fixed sizes`` when nothing varies)."""
-        shown = self.display_sizes()
-        return ",".join(f"{k}={v}" for k, v in shown.items()) or "scalars"
-
-
-def _class_names(analysis: Analysis) -> dict[Key, str]:
-    """A readable name per class that is used (dimension letters first)."""
-    uf = analysis.uf
-    best: dict[Key, tuple[int, str]] = {}
-    for key in uf.order:
-        root = uf.find(key)
-        rank_name = _rank(key)
-        if rank_name is None:
-            continue
-        if root not in best or rank_name < best[root]:
-            best[root] = rank_name
-    return {root: name for root, (_, name) in sorted(best.items(), key=lambda kv: uf.order.index(kv[0]))}
-
-
-def _rank(key: Key) -> tuple[int, str] | None:
-    kind = key[0]
-    if kind == "dim" and isinstance(key[1], str) and not key[1].startswith("_"):
-        return (0, key[1])
-    if kind == "idx":
-        return (1, key[2])
-    if kind == "axis":
-        return (2, f"{key[1]} axis {key[2] + 1}")
-    if kind == "dim":
-        return (3, str(key[1]))
-    return None
+        """``n=2,d=3``, ``3 (Levi-Civita)`` (see :mod:`.sizes`); ``""`` for scalars."""
+        return sizes.sizes_text(self)

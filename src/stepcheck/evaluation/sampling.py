@@ -25,6 +25,7 @@ from typing import Any, Iterable
 
 import numpy as np
 import sympy
+from mpmath.libmp import to_str
 
 from ..context.model import AssumptionKind as K
 from .analysis import Analysis, InputSpec, Key
@@ -279,12 +280,20 @@ def probe_value(model: Model, node: Any, state: Any) -> AnyValue | None:
     return None
 
 
-def to_json_number(x: Any) -> Any:
-    """A sympy number as JSON: an int, a ``"p/q"`` string, or a float."""
+#: Significant digits of a floating-point value whose 12-digit print would hide the
+#: difference between the two sides of a counterexample.
+PRECISE_DIGITS = 25
+
+
+def to_json_number(x: Any, digits: int | None = None) -> Any:
+    """A sympy number as JSON: an int, a ``"p/q"`` string, or a float (12 significant
+    digits; with ``digits``, a string of that many)."""
     if isinstance(x, sympy.Integer):
         return int(x)
     if isinstance(x, sympy.Rational):
         return f"{x.p}/{x.q}"
+    if digits is not None and isinstance(x, sympy.Float):
+        return to_str(x._mpf_, digits)
     try:
         value = complex(sympy.N(x, 17))
     except (TypeError, ValueError):
@@ -294,15 +303,15 @@ def to_json_number(x: Any) -> Any:
     return float(f"{value.real:.12g}")
 
 
-def to_json_array(arr: Any, flatten_columns: bool = True) -> Any:
+def to_json_array(arr: Any, flatten_columns: bool = True, digits: int | None = None) -> Any:
     """Nested lists of JSON numbers (a column vector as a flat list, unless
     ``flatten_columns`` is False: inputs keep their declared shape)."""
     a = np.asarray(arr, dtype=object)
     if flatten_columns and a.ndim == 2 and a.shape[1] == 1:
         a = a.reshape(-1)
     if a.ndim == 0:
-        return to_json_number(a[()])
-    return [to_json_array(x) for x in a]
+        return to_json_number(a[()], digits)
+    return [to_json_array(x, digits=digits) for x in a]
 
 
 def inputs_json(model: Model, env: Env) -> dict[str, Any]:

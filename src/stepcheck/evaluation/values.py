@@ -169,6 +169,8 @@ class LazyValue:
     def materialize(self, shape: tuple[int, ...]) -> Value:
         """This value at a concrete positional shape."""
         f = self.factor
+        if shape == ():  # next to a 1×1 value, which is a scalar (SPEC §8)
+            return Value(as_array(ZERO if self.kind == "zero" else f))
         if self.kind == "eye":
             if len(shape) != 2 or shape[0] != shape[1]:
                 raise ShapeMismatch(f"an identity matrix cannot have shape {shape_text(shape)}")
