@@ -26,6 +26,18 @@ from decide_helpers import decide_latex  # noqa: E402
 LSQ = {"X": ("n", "d"), "y": ("n",), "w": ("d",)}
 SQ3 = {"X": ("n", "n"), "A": ("n", "n"), "B": ("n", "n")}
 
+ATTENTION = {
+    "shapes": {"q": ("d",), "K": ("n", "d"), "V": ("n", "m"), "s": ("n",), "p": ("n",), "o": ("m",)},
+    "definitions": {r"\mathbf{s}": r"\frac{1}{\sqrt{d}} K\mathbf{q}", r"\mathbf{p}": r"\operatorname{softmax}(\mathbf{s})",
+                    r"\mathbf{o}": r"V^\top \mathbf{p}"},
+}
+GP = {
+    "shapes": {"y": ("n",), "C": ("n", "n"), "K": ("n", "n"), r"\alpha": ("n",)},
+    "assumptions": {"C": {"spd"}, "a": {"positive"}, "b": {"positive"}},
+    "definitions": {"K": r"a C + b I", r"\boldsymbol{\alpha}": r"K^{-1}\mathbf{y}",
+                    r"\mathcal{L}": r"-\tfrac12 \mathbf{y}^\top K^{-1}\mathbf{y} - \tfrac12 \log\det K"},
+}
+
 #: (name, lhs, rhs, context) — invented scenarios.
 STEPS = [
     ("scalar identity (proof)", r"(a + b)^2", r"a^2 + 2ab + b^2", {}),
@@ -50,13 +62,19 @@ STEPS = [
     ("wrong step with hints", r"\frac{\partial}{\partial \mathbf{x}} \mathbf{x}^\top A \mathbf{x}", r"2A\mathbf{x}",
      {"shapes": {"x": ("n",), "A": ("n", "n")}, "layout": "denominator"}),
     ("inequality (Loewner)", r"A^\top A + I", r"I", {"shapes": {"A": ("n", "m")}, "relation": "\\succeq"}),
+    ("attention Jacobian through softmax (float)", r"\frac{\partial \mathbf{o}}{\partial \mathbf{q}}",
+     r"\frac{1}{\sqrt{d}} V^\top\left(\operatorname{diag}(\mathbf{p}) - \mathbf{p}\mathbf{p}^\top\right) K", ATTENTION),
+    ("Gram inverse, sizes with n < d skipped", r"(X^\top X)^{-1} X^\top X", r"I", {"shapes": {"X": ("n", "d")}}),
+    ("log-likelihood gradient through K^{-1}, log det", r"\frac{\partial \mathcal{L}}{\partial a}",
+     r"\tfrac12 \boldsymbol{\alpha}^\top C \boldsymbol{\alpha} - \tfrac12 \operatorname{tr}(K^{-1} C)", GP),
+    ("metric lowering (up-down mode)", r"g_{ij}u^{i}u^{j}", r"u^{i}u_{i}", {"up_down": True, "metric": "g"}),
 ]
 
 
 def run(repeat: int) -> None:
     decide_latex("x", "x")  # import and warm the machinery once
     medians = []
-    print(f"{'step':44} {'verdict':9} {'median':>8} {'worst':>8}")
+    print(f"{'step':48} {'verdict':9} {'median':>8} {'worst':>8}")
     for name, lhs, rhs, context in STEPS:
         context = dict(context)
         relation = context.pop("relation", "=")
@@ -70,8 +88,9 @@ def run(repeat: int) -> None:
             verdict = outcome.verdict.value
         median = statistics.median(times)
         medians.append(median)
-        print(f"{name:44} {verdict:9} {median * 1000:7.0f}ms {max(times) * 1000:7.0f}ms")
-    print(f"{'median over all steps':54} {statistics.median(medians) * 1000:7.0f}ms")
+        print(f"{name:48} {verdict:9} {median * 1000:7.0f}ms {max(times) * 1000:7.0f}ms")
+    print(f"{'median over all steps':58} {statistics.median(medians) * 1000:7.0f}ms")
+    print(f"{'total of the medians':58} {sum(medians) * 1000:7.0f}ms")
     print(f"(sympy {sympy.__version__}; default trials 6; {repeat} runs per step)")
 
 

@@ -5,7 +5,7 @@ through sympy, which dominates the cost of deciding (the softmax-attention Jacob
 spent most of its 4–5 s in ``evalf``).  Here each side is lowered **once** per size
 assignment on Symbols — derivatives differentiated once, chain-rule variables replaced
 by their definitions — and compiled with ``sympy.lambdify`` (common subexpressions
-shared); a draw is then one call, with mpmath at the working precision
+shared in large ones); a draw is then one call, with mpmath at the working precision
 (:data:`~.model.FLOAT_DPS`, and :data:`~.model.HIGH_DPS` for the second look): the
 arithmetic of the draw-by-draw lowering.  Exact draws of small rationals are cheap, so
 only floating-point draws are compiled.
@@ -71,7 +71,9 @@ class CompiledStep:
         stray = set().union(*(e.free_symbols for e in exprs)) - set(self._args) if exprs else set()
         if stray:
             raise Unsupported(f"values depend on {', '.join(sorted(map(str, stray)))}, which is not drawn")
-        return sympy.lambdify(self._args, exprs, modules=[opaque.MPMATH_NAMESPACE, "mpmath"], cse=True, printer=_printer())
+        return sympy.lambdify(
+            self._args, exprs, modules=[opaque.MPMATH_NAMESPACE, "mpmath"], cse=_large(exprs), printer=_printer()
+        )
 
     def evaluate(self, env: Env, rhs_env: Env | None = None) -> Aligned:
         """Both sides at one draw (``rhs_env``: the right side's inputs, when they
@@ -98,6 +100,21 @@ class CompiledStep:
         if k not in self._sides:
             self._sides[k] = self._compile(self._entries[k])
         return self._sides[k]
+
+
+#: Subexpressions (counted with repetition) from which common ones are shared in the
+#: compiled code; below, finding them costs more than evaluating them again per draw.
+CSE_NODES = 1500
+
+
+def _large(exprs: list) -> bool:
+    """Whether the expression trees have at least :data:`CSE_NODES` nodes."""
+    count = 0
+    stack = list(exprs)
+    while stack and count < CSE_NODES:
+        count += 1
+        stack.extend(stack.pop().args)
+    return count >= CSE_NODES
 
 
 def _printer() -> MpmathPrinter:
