@@ -283,3 +283,13 @@ def test_describe_gives_the_sympy_form_of_each_side():
     assert lines[2] == "    x[0]*(S[0,0]*x[0] + S[1,0]*x[1]) + x[1]*(S[0,1]*x[0] + S[1,1]*x[1])"
     assert lines[3] == "  right (scalar):"
     assert lines[4] == lines[2]  # Einstein's S_ij x_i x_j lowers to the same sum
+
+
+@pytest.mark.parametrize("lhs, rhs, first", [
+    pytest.param(r"(a + b)^2", r"a^2 + 2ab + b^2", "sympy form (scalar inputs):", id="scalars"),
+    pytest.param(r"x_i y_i", r"y_j x_j", "sympy form at size 2:", id="index-range-without-a-letter"),
+])
+def test_describe_names_sizes_like_the_messages(lhs, rhs, first):
+    ctx = make_context()
+    lines = describe_step(parse_latex(lhs, ctx.vocabulary), parse_latex(rhs, ctx.vocabulary), ctx)
+    assert lines[0] == first

@@ -15,6 +15,7 @@ from .analysis import analyse, dim_key
 from .lower import Lowerer
 from .model import Env, Model
 from .sampling import size_assignments
+from .sizes import sizes_phrase
 from .values import EvaluationError, LazyValue, Value, shape_text
 
 #: Entries shown per side before the rest is summarised.
@@ -32,7 +33,8 @@ def describe_step(lhs: N.Node, rhs: N.Node | None, context: StepContext) -> list
     except EvaluationError as error:
         return [f"sympy form: not available ({error.message})"]
     model = Model(analysis, size_assignments(analysis)[0])
-    lines = [f"sympy form at sizes {model.sizes_text()}:"]
+    where = sizes_phrase([model])
+    lines = [f"sympy form {where}:" if where else "sympy form (scalar inputs):"]
     lowerer = Lowerer(model, model.symbol_env())
     for word, node in sides:
         try:
