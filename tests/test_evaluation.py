@@ -568,3 +568,10 @@ def test_without_its_mark_the_same_definition_is_an_index_mismatch():
     outcome = decide_latex(r"\frac{\partial q_j}{\partial d_i}", r"(1 - a_j) W_{ij}", shapes=FOULING,
                            definitions={"q_j": r"(1 - a_j)\sum_{i} W_{ij} d_i"}, no_sum=True)
     assert outcome.verdict is Verdict.INDEX_ERROR
+
+
+def test_a_float_step_outside_its_domain_names_the_function():
+    # compiled draws leave a complex logarithm; the draw-by-draw lowering names the cause
+    outcome = decide_latex(r"\log(-x^2 - 1)", r"0")
+    assert outcome.verdict is Verdict.UNSUPPORTED
+    assert outcome.message == "no draw fell inside the domain of the step (a logarithm of a number that is not positive)"

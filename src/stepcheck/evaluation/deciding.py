@@ -156,8 +156,13 @@ class Decider:
         """One draw evaluated and judged; a compiled draw that breaks the step's own
         relation is confirmed by the draw-by-draw lowering before it counts."""
         compiled = self.compiled(model) if mode == "float" and COMPILE else None
-        judged = self._look(model, env, swap, check, mode, compiled)
-        if not judged[1] and compiled is not None and confirm:
+        if compiled is None:
+            return self._look(model, env, swap, check, mode, None)
+        try:
+            judged = self._look(model, env, swap, check, mode, compiled)
+        except OutOfDomain:  # the draw-by-draw lowering says which domain, or finds none left
+            return self._look(model, env, swap, check, mode, None)
+        if not judged[1] and confirm:
             judged = self._look(model, env, swap, check, mode, None)
         return judged
 
