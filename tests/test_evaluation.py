@@ -575,3 +575,14 @@ def test_a_float_step_outside_its_domain_names_the_function():
     outcome = decide_latex(r"\log(-x^2 - 1)", r"0")
     assert outcome.verdict is Verdict.UNSUPPORTED
     assert outcome.message == "no draw fell inside the domain of the step (a logarithm of a number that is not positive)"
+
+
+def test_the_compiled_code_printer_refuses_a_symbol_that_is_not_drawn():
+    from stepcheck.evaluation.compiled import _ArgumentPrinter
+    from stepcheck.evaluation.values import Unsupported
+
+    drawn, foreign = sympy.Symbol("w[0]", real=True), sympy.Symbol("os.system('x')", real=True)
+    printer = _ArgumentPrinter({drawn: "_arg0"})
+    assert printer.doprint(sympy.exp(drawn) + 1) in ("exp(_arg0) + 1", "1 + exp(_arg0)")
+    with pytest.raises(Unsupported):
+        printer.doprint(drawn * foreign)
