@@ -43,12 +43,7 @@ VERDICTS = {
 DOCUMENT_SUFFIXES = (".tex", ".md", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-KNOWN: dict[str, str] = {
-    "frost-forecast-elbo.md:43:39": (
-        "sampling: a lower-triangular L is drawn with a zero diagonal entry, so log det(L L^T) is "
-        "undefined; the gradient evaluates to 0 and a false 'fails' with a 'symmetric' hint follows"
-    ),
-}
+KNOWN: dict[str, str] = {}
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
 KNOWN_EXTRA: dict[str, str] = {}
