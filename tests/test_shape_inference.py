@@ -11,6 +11,7 @@ vent-controller fit with a ridge penalty, a conveyor's load-cell covariance.
 
 from __future__ import annotations
 
+import stepcheck
 import numpy as np
 import pytest
 from context_helpers import document_context, plan_at, read_step, step_context
@@ -170,3 +171,17 @@ def test_an_undefined_function_of_a_vector_has_an_unknown_shape_and_no_shape_err
     plan = document_context(COV + "$$\n" + step + "\n$$\n").plans[0]
     assert plan.defines is None
     assert plan.findings == ()
+
+
+def test_a_definition_takes_its_body_shape_once_its_unknown_factors_are_scalars():
+    # GIVEN a bar stiffness written as a bare coefficient times a matrix literal, WHEN the
+    # coefficient's shape is only known to be "not declared", THEN it is a scalar input and the
+    # defined symbol takes the body's 2x2 shape (no shape error on a correct definition), and a
+    # wrong use of it is still caught.
+    doc = (
+        "\\[ k = c \\begin{bmatrix} 1 & -1 \\\\ -1 & 1 \\end{bmatrix} \\]\n"
+        "\\[ k k = 2 c k \\]\n"
+        "\\[ k k = c k \\]\n"
+    )
+    report = stepcheck.check_text(doc, "tex")
+    assert [s.verdict.value for s in report.steps()] == ["defines", "holds", "fails"]

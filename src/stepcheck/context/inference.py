@@ -85,6 +85,12 @@ def infer_shapes(
     _default_shapes(env, scalars=False, signed=_signed(assumptions))
     _settle(env, settled)
     _settle(env, units)
+    # Inputs become scalars first; a defined symbol then takes its body's shape
+    # (k = c\begin{bmatrix}…\end{bmatrix} is a matrix once c is a scalar).
+    defined = frozenset(u.defines for u in units if u.defines is not None)
+    notes.extend(_default_shapes(env, scalars=True, skip=defined))
+    _settle(env, settled)
+    _settle(env, units)
     notes.extend(_default_shapes(env, scalars=True))
     findings: dict[Hashable, tuple[Diagnostic, ...]] = {}
     for unit in units:
@@ -145,14 +151,16 @@ def _signed(assumptions: Iterable[Assumption]) -> dict[str, Assumption]:
     return found
 
 
-def _default_shapes(env: ShapeEnv, scalars: bool, signed: Mapping[str, Assumption] | None = None) -> list[Note]:
+def _default_shapes(
+    env: ShapeEnv, scalars: bool, signed: Mapping[str, Assumption] | None = None, skip: frozenset[str] = frozenset()
+) -> list[Note]:
     """Give the still unknown symbols a shape: first the bold and square ones, then (with
     ``scalars``) everything else a scalar, noting those whose shape mattered.  A plain
     (not bold) symbol stated positive (``b > 0``) is a scalar by that statement, without a
     note: a weight written so is a number (common practice)."""
     notes: list[Note] = []
     for entry in env.table.values():
-        if entry.shape is not None:
+        if entry.shape is not None or entry.name in skip:
             continue
         stated = (signed or {}).get(entry.name)
         if not scalars and stated is not None and not entry.bold:
