@@ -11,7 +11,6 @@ vent-controller fit with a ridge penalty, a conveyor's load-cell covariance.
 
 from __future__ import annotations
 
-import stepcheck
 import numpy as np
 import pytest
 from context_helpers import document_context, plan_at, read_step, step_context
@@ -183,5 +182,5 @@ def test_a_definition_takes_its_body_shape_once_its_unknown_factors_are_scalars(
         "\\[ k k = 2 c k \\]\n"
         "\\[ k k = c k \\]\n"
     )
-    report = stepcheck.check_text(doc, "tex")
+    report = api.check_text(doc, "tex")
     assert [s.verdict.value for s in report.steps()] == ["defines", "holds", "fails"]
