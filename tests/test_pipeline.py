@@ -153,3 +153,13 @@ def test_a_relation_that_is_reported_not_checked_is_skipped_even_when_unreadable
     report = pipeline.check_text(doc, "tex", Settings())
     assert [(s.line, s.verdict.value) for s in report.steps()] == [(1, "skipped"), (2, "skipped"), (3, "skipped")]
     assert report.steps()[0].outcome.message == "relation \\sim is reported, not checked"
+
+
+def test_more_jobs_than_processors_give_the_same_report(tmp_path):
+    # Workers are capped at the number of processors: oversubscribing two cores with dozens of
+    # workers made wall-clock limits fire on trivial steps.
+    path = _write(tmp_path)
+    one = pipeline.check_paths([str(path)], Settings(jobs=1, cache=False))
+    many = pipeline.check_paths([str(path)], Settings(jobs=64, cache=False))
+    assert many.to_dict() == one.to_dict()
+    assert "timeout" not in [s.verdict.value for s in many.steps()]

@@ -4,7 +4,8 @@ An entry is keyed by everything the evaluator reads: both sides (as canonical La
 moving a step does not miss the cache), the relation, the options and vocabulary, the shapes,
 assumptions and definitions the step reaches, the seed and trials, and a digest of the
 tool's own source (so a changed evaluator never reuses old answers).  Only outcomes that
-carry no file position are stored.  A cache that cannot be read or written is ignored.
+carry no file position are stored, and never a ``timeout`` or an ``unsupported``.  A cache
+that cannot be read or written is ignored.
 """
 
 from __future__ import annotations
@@ -106,6 +107,11 @@ def _plain(value: Any) -> Any:
     raise TypeError(f"cannot key {type(value).__name__}")
 
 
+#: A timeout depends on the machine's load, and an ``unsupported`` may come from an evaluator
+#: failure that a later run does not have: both are decided afresh every run.
+_NOT_STORED = frozenset({Verdict.TIMEOUT, Verdict.UNSUPPORTED})
+
+
 class StepCache:
     """Decided steps stored as small JSON files under one folder."""
 
@@ -131,7 +137,7 @@ class StepCache:
 
     def put(self, key: str, outcome: Outcome) -> None:
         """Store an outcome that carries no file position; failures to write are ignored."""
-        if outcome.column is not None or outcome.verdict is Verdict.TIMEOUT:
+        if outcome.column is not None or outcome.verdict in _NOT_STORED:
             return
         data = {
             "verdict": outcome.verdict.value,

@@ -9,6 +9,7 @@ from __future__ import annotations
 import concurrent.futures
 import logging
 import multiprocessing
+import os
 from dataclasses import replace
 from typing import Callable, Iterable, Sequence
 
@@ -94,7 +95,9 @@ def decide_plans(
 ) -> list[Outcome]:
     """The outcome of every plan, in order; in worker processes when ``settings.jobs > 1``."""
     total = len(plans)
-    workers = min(settings.jobs, total)
+    workers = min(settings.jobs, total, os.cpu_count() or 1)
+    if any(_needs_evaluator(plan) for plan in plans):
+        prepare_evaluator()
     if workers > 1 and "fork" in multiprocessing.get_all_start_methods():
         return _decide_in_workers(plans, settings, progress, cache, workers)
     outcomes = []
@@ -119,8 +122,6 @@ def _decide_in_workers(
     plans: Sequence[StepPlan], settings: Settings, progress: Progress | None, cache: StepCache | None, workers: int
 ) -> list[Outcome]:
     global _WORK
-    from . import evaluation  # noqa: F401  (load sympy once, before the fork, for every worker)
-
     _WORK = (plans, settings, cache)
     try:
         context = multiprocessing.get_context("fork")
@@ -135,10 +136,46 @@ def _decide_in_workers(
         _WORK = None
 
 
+def _needs_evaluator(plan: StepPlan) -> bool:
+    return plan.lhs is not None and plan.rhs is not None and not plan.step.skipped
+
+
+_PREPARED = False
+
+#: Small steps that make sympy, numpy and mpmath load every module the evaluator may reach
+#: lazily (polynomials, matrices, derivatives, float sampling), before any time limit runs.
+_WARM_UP = (
+    (r"\frac{\partial}{\partial x}\left(x^2 e^{x}\right)", r"2x e^{x} + x^2 e^{x}", {}),
+    (r"\log\det(A^{-1}) + \operatorname{tr}(A^{-1} B)", r"-\log\det A + \operatorname{tr}(B A^{-1})",
+     {"A": ("n", "n"), "B": ("n", "n")}),
+    (r"\frac{\partial}{\partial \mathbf{w}} \|X\mathbf{w}\|^2", r"2\mathbf{w}^\top X^\top X",
+     {"X": ("m", "n"), "w": ("n",)}),
+)
+
+
+def prepare_evaluator() -> None:
+    """Load the evaluator and everything it loads lazily, once per process and outside any
+    time limit: a limit that fires in the middle of an import leaves a library half-loaded for
+    every later step, and a slow load must not be charged to the first step. Worker
+    processes fork after this, so they start prepared."""
+    global _PREPARED
+    if _PREPARED:
+        return
+    _PREPARED = True
+    from .context.model import ShapeTable, StepContext, StepOptions, Vocabulary
+    from .evaluation import decide
+    from .expressions.parser import parse_latex
+
+    for lhs, rhs, shapes in _WARM_UP:
+        context = StepContext(StepOptions(), Vocabulary(), ShapeTable(symbols=shapes), {}, {})
+        outcome = decide(parse_latex(lhs), parse_latex(rhs), RelationKind.EQUAL, context, Settings(trials=1))
+        logger.debug("warm-up %s: %s", lhs, outcome.verdict.value)
+
+
 def decide_plan(plan: StepPlan, settings: Settings, cache: StepCache | None = None) -> Outcome:
     """The outcome of one planned step, within its time limit (loading sympy does not count)."""
-    if plan.lhs is not None and plan.rhs is not None and not plan.findings:
-        from . import evaluation  # noqa: F401
+    if _needs_evaluator(plan):
+        prepare_evaluator()
     try:
         with time_limit(settings.timeout):
             return _decide(plan, settings, cache)
