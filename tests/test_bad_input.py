@@ -64,10 +64,11 @@ def test_binary_file_names_the_nul_byte(here: pathlib.Path) -> None:
     assert str(caught.value) == "blob.md: binary file, not text: a NUL byte at line 2, column 3"
 
 
-def test_utf16_file_is_reported_as_binary(here: pathlib.Path) -> None:
+def test_utf16_file_is_named_as_utf16(here: pathlib.Path) -> None:
     (here / "wide.tex").write_bytes("$a$".encode("utf-16"))
-    with pytest.raises(InputError, match="binary file"):
+    with pytest.raises(InputError) as caught:
         _read("wide.tex")
+    assert str(caught.value) == "wide.tex: UTF-16 text, not UTF-8; save the file as UTF-8 to check it"
 
 
 def test_directory_named_like_a_document(here: pathlib.Path) -> None:
@@ -171,8 +172,12 @@ def test_include_and_exclude_filter_a_walk(here: pathlib.Path) -> None:
         path.parent.mkdir(parents=True, exist_ok=True)
         path.write_text("x", encoding="utf-8")
     assert [d for _, d, _ in discover(["docs"], include=["*.tex"])] == ["docs/a.tex", "docs/drafts/c.tex"]
-    assert [d for _, d, _ in discover(["docs"], exclude=["drafts/*"])] == ["docs/a.tex", "docs/b.md"]
-    with pytest.raises(InputError, match="after --include/--exclude"):
+    # a pattern with a '/' is anchored at the working folder (git practice); one without
+    # matches a name at any depth, a folder's name included
+    assert [d for _, d, _ in discover(["docs"], exclude=["docs/drafts/*"])] == ["docs/a.tex", "docs/b.md"]
+    assert [d for _, d, _ in discover(["docs"], exclude=["drafts/*"])] == ["docs/a.tex", "docs/b.md", "docs/drafts/c.tex"]
+    assert [d for _, d, _ in discover(["docs"], exclude=["drafts"])] == ["docs/a.tex", "docs/b.md"]
+    with pytest.raises(InputError, match="after the include/exclude patterns"):
         discover(["docs"], include=["*.ipynb"])
 
 
