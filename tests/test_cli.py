@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import io
 import json
+import os
 import pathlib
 import subprocess
 import sys
@@ -146,10 +147,15 @@ def test_defaults_reach_the_settings(run_cli, fake):
     (["--trials", "0"], "Invalid value for '--trials'"),
     (["--jobs", "0"], "Invalid value for '--jobs' / '-j': 0 is not in the range x>=1"),
     (["--timeout", "-2"], "Invalid value for '--timeout'"),
+    (["--timeout", "nan"], "Invalid value for '--timeout': 'nan' is not a finite number of seconds"),
+    (["--timeout", "inf"], "Invalid value for '--timeout': 'inf' is not a finite number of seconds"),
+    (["--timeout", "-inf"], "Invalid value for '--timeout': '-inf' is not a finite number of seconds"),
+    (["--timeout", "soon"], "Invalid value for '--timeout': 'soon' is not a number of seconds"),
     (["--layout", "sideways"], "'sideways' is not one of 'numerator', 'denominator'"),
     (["--format", "pdf"], "'pdf' is not one of 'text', 'json'"),
     (["--colour"], "No such option '--colour'"),
-], ids=["negative-seed", "word-seed", "zero-trials", "zero-jobs", "negative-timeout", "layout", "format", "unknown"])
+], ids=["negative-seed", "word-seed", "zero-trials", "zero-jobs", "negative-timeout", "nan-timeout", "inf-timeout",
+        "minus-inf-timeout", "word-timeout", "layout", "format", "unknown"])
 def test_bad_options_exit_2(run_cli, fake, args, fragment):
     result = run_cli("check", DOC, *args, code=2)
     assert fragment in result.stderr
@@ -231,6 +237,23 @@ def test_refuses_to_write_over_the_configuration(run_cli, fake, work):
     assert (work / "stepcheck.toml").read_text(encoding="utf-8") == "seed = 1\n"
 
 
+def test_refuses_to_write_over_a_hard_link_to_an_input(run_cli, fake, work):
+    """A hard link shares the file, whatever its name (``os.path.samefile`` practice)."""
+    (work / "copy.tex").hardlink_to(work / DOC)
+    before = (work / DOC).read_bytes()
+    line = one_error_line(run_cli("check", DOC, "--output", "copy.tex", code=2))
+    assert "copy.tex: refusing to write the report over an input file" in line
+    assert (work / DOC).read_bytes() == before and fake.calls == []
+
+
+def test_refuses_to_write_over_a_link_to_the_configuration(run_cli, fake, work):
+    (work / "stepcheck.toml").write_text("seed = 1\n", encoding="utf-8")
+    (work / "settings-link.toml").symlink_to(work / "stepcheck.toml")
+    line = one_error_line(run_cli("check", DOC, "--output", "settings-link.toml", code=2))
+    assert "refusing to write the report over the configuration file" in line
+    assert (work / "stepcheck.toml").read_text(encoding="utf-8") == "seed = 1\n"
+
+
 def test_a_new_file_in_a_checked_folder_is_allowed(run_cli, fake, work):
     run_cli("check", "notes", "--format", "markdown", "--output", "notes/report.md")
     assert (work / "notes" / "report.md").read_text(encoding="utf-8").startswith("## stepcheck report")
@@ -256,7 +279,8 @@ def test_config_found_upward_and_command_line_wins(run_cli, fake, work):
     assert json.loads(result.stdout)["seed"] == 11  # format json from the file (seed is the fake's)
     assert fake.settings == Settings(seed=5, trials=4, layout=Layout.DENOMINATOR, up_down=True,
                                      summation=Summation.EXPLICIT)
-    assert (fake.calls[-1]["include"], fake.calls[-1]["exclude"]) == (("**/*.tex",), ("drafts/*",))
+    root = str(work.resolve())  # the patterns are anchored at the configuration's folder
+    assert (fake.calls[-1]["include"], fake.calls[-1]["exclude"]) == ((f"{root}/**/*.tex",), (f"{root}/drafts/*",))
     result = run_cli("check", DOC, "--seed", "9", "--format", "text", "--layout", "numerator")
     assert fake.settings.seed == 9 and fake.settings.trials == 4 and fake.settings.layout is Layout.NUMERATOR
     assert result.stdout.startswith("stepcheck: ")
@@ -383,6 +407,25 @@ def test_explain_bad_arguments(run_cli, explainer, work, args, fragment):
     assert fragment in result.stderr and "Traceback" not in result.output
 
 
+def test_explain_takes_a_notebook_cell_as_reports_locate_it(run_cli, explainer, work):
+    (work / "sorter.ipynb").write_text('{"cells": []}', encoding="utf-8")
+    (work / "stepcheck.toml").write_text("seed = 4\n", encoding="utf-8")
+    run_cli("explain", "sorter.ipynb#cell2:3")
+    assert explainer["line"] == ("sorter.ipynb#cell2", 3, Settings(seed=4))
+    assert "absent.ipynb: no such file" in run_cli("explain", "absent.ipynb#cell1:3", code=2).stderr
+    assert "sorter.ipynb#cellX: no such file" in run_cli("explain", "sorter.ipynb#cellX:3", code=2).stderr
+
+
+def test_explain_a_file_whose_name_ends_like_a_cell(run_cli, explainer, work):
+    (work / "odd.md#cell2").write_text("$$ a = a $$\n", encoding="utf-8")
+    run_cli("explain", "odd.md#cell2:1")
+    assert explainer["line"][:2] == ("odd.md#cell2", 1)
+
+
+def test_explain_a_folder_is_not_a_file(run_cli, explainer, work):
+    assert "notes: not a regular file" in run_cli("explain", "notes:1", code=2).stderr
+
+
 def test_explain_not_available_yet(run_cli, monkeypatch, work):
     monkeypatch.setitem(sys.modules, "stepcheck.explain", types.ModuleType("stepcheck.explain"))
     line = one_error_line(run_cli("explain", "--math", "x", code=2))
@@ -405,13 +448,26 @@ def test_progress_only_on_a_terminal_after_a_delay():
         assert stream.getvalue() == ""  # a short run shows nothing
         now[0] = 2.0
         progress(2, 4)
-        assert stream.getvalue() == "\rstepcheck: 2 steps checked (this file 2/4)\x1b[K"
+        assert stream.getvalue() == "\rstepcheck: 2/4 steps checked\x1b[K"
     assert stream.getvalue().endswith("\r\x1b[K")  # cleared at the end
     quiet = io.StringIO()
     with Progress(quiet, clock=lambda: 10.0 * len(quiet.getvalue())) as progress:
         for done in range(1, 5):
             progress(done, 4)
     assert quiet.getvalue() == ""
+
+
+def test_progress_is_redrawn_at_most_ten_times_a_second():
+    """10,000 steps in 2 s of run time: about 10 redraws (0.1 s apart), and the last step."""
+    now = [1.0]
+    stream = Terminal()
+    with Progress(stream, clock=lambda: now[0]) as progress:
+        for done in range(1, 10_001):
+            now[0] = 1.0 + done * 0.0002
+            progress(done, 10_000)
+    frames = [f for f in stream.getvalue().split("\r") if f.startswith("stepcheck:")]
+    assert 9 <= len(frames) <= 12
+    assert frames[-1] == "stepcheck: 10000/10000 steps checked\x1b[K"
 
 
 # --- end to end, on real documents (waits on the document readers and the checking stages) ---
@@ -472,6 +528,39 @@ def test_unreadable_inputs_end_to_end(run_cli, real, setup, target, fragment):
     assert fragment in line
 
 
+
+
+@pytest.mark.skipif(not os.path.exists("/dev/full"), reason="needs /dev/full")
+def test_a_full_device_on_standard_output_is_an_io_error(work):
+    """Not an internal error: the environment refused the bytes (exit 2, one line)."""
+    src = pathlib.Path(__file__).parents[1] / "src"
+    with open("/dev/full", "w") as full:
+        done = subprocess.run([sys.executable, "-m", "stepcheck", "check", DOC, "--no-cache"], stdout=full,
+                              stderr=subprocess.PIPE, text=True, env={**os.environ, "PYTHONPATH": str(src)},
+                              timeout=60)
+    assert done.returncode == 2
+    assert done.stderr == "stepcheck: error: cannot write the report to standard output: No space left on device\n"
+
+
+def test_output_over_a_hard_link_to_a_document_found_in_a_folder_is_refused(run_cli, real):
+    """Found only by walking ``notes``: the guard after the run compares the files read."""
+    (real / "report.tex").hardlink_to(real / DOC)
+    before = (real / DOC).read_bytes()
+    line = one_error_line(run_cli("check", "notes", "--no-cache", "--output", "report.tex", code=2))
+    assert "report.tex: refusing to write the report over an input file" in line
+    assert (real / DOC).read_bytes() == before
+
+
+def test_patterns_are_relative_to_the_configuration_folder(run_cli, real, monkeypatch):
+    """``cd docs && stepcheck check .`` with the root's ``include = ["docs/**/*.tex"]``."""
+    (real / "stepcheck.toml").write_text('include = ["docs/**/*.tex"]\nexclude = ["drafts"]\n', encoding="utf-8")
+    for name, text in [("docs/top.tex", "\\[ (c+d)^2 = c^2 + d^2 \\]\n"), ("docs/deep/low.tex", "\\[ a + b = b + a \\]\n"),
+                       ("docs/drafts/old.tex", "\\[ a = b \\]\n"), ("docs/readme.md", "$$ a = b $$\n")]:
+        (real / name).parent.mkdir(parents=True, exist_ok=True)
+        (real / name).write_text(text, encoding="utf-8")
+    monkeypatch.chdir(real / "docs")
+    data = json.loads(run_cli("check", ".", "--format", "json", "--no-cache", code=1).stdout)
+    assert [f["path"] for f in data["files"]] == ["deep/low.tex", "top.tex"]
 
 
 @WAITING

@@ -294,8 +294,6 @@ def test_bad_option_values_exit_2(run_cli, home, args, fragment):
 
 
 @pytest.mark.parametrize("value", ["nan", "inf"])
-@pytest.mark.xfail(strict=True, reason="--timeout nan/inf pass click's FloatRange and are refused later by the "
-                   "config converter as 'internal error: ValueError … please report this' instead of a usage error")
 def test_non_finite_timeout_is_a_usage_error(run_cli, home, value):
     put(home, "pump.tex", "\\[ a = a \\]\n")
     result = run_cli("check", "pump.tex", "--timeout", value, code=2)
@@ -323,8 +321,6 @@ def test_output_over_an_input_or_a_link_to_it_is_refused(run_cli, home):
     assert doc.read_bytes() == before
 
 
-@pytest.mark.xfail(strict=True, reason="refuse_input compares resolved paths, so a hard link to the input is "
-                   "not recognised and the report is written over the document (SPEC §13: never write to an input)")
 def test_output_over_a_hard_link_to_an_input_is_refused(run_cli, home):
     doc = put(home, "notes/pump.tex", "\\[ (c+d)^2 = c^2 + d^2 \\]\n")
     os.link(doc, home / "hard.tex")
@@ -333,8 +329,6 @@ def test_output_over_a_hard_link_to_an_input_is_refused(run_cli, home):
     assert doc.read_bytes() == before
 
 
-@pytest.mark.xfail(strict=True, reason="an \\input file with no display (only macros) is not in report.files, so "
-                   "--output over it is allowed and the macro file is overwritten (SPEC §13: never write to an input)")
 def test_output_over_an_input_file_of_macros_is_refused(run_cli, home):
     macros = put(home, "paper/macros.tex", "\\newcommand{\\grad}{\\nabla}\n")
     put(home, "paper/main.tex", "\\input{macros}\n\\[ (c+d)^2 = c^2 + d^2 \\]\n")
@@ -426,8 +420,6 @@ def test_explain_bad_targets_exit_2(run_cli, home, target, fragment):
     assert fragment in result.stderr and "Traceback" not in result.output
 
 
-@pytest.mark.xfail(strict=True, reason="explain does not accept the location the reports give for a notebook step "
-                   "(PATH#cellN:LINE is 'no such file'; PATH:LINE says the notebook has no steps)")
 def test_explain_a_notebook_cell_line(run_cli, home):
     cell = {"cell_type": "markdown", "metadata": {}, "source": ["Sorter\n", "\n", "$$ (c+d)^2 = c^2 + d^2 $$\n"]}
     put(home, "sorter.ipynb", json.dumps({"nbformat": 4, "nbformat_minor": 5, "metadata": {}, "cells": [cell]}))

@@ -13,8 +13,10 @@ import dataclasses
 import importlib
 import io
 import logging
+import math
 import os
 import pathlib
+import re
 import sys
 import time
 from dataclasses import dataclass
@@ -76,8 +78,13 @@ class FileLine:
     line: int
 
 
+#: A notebook cell as reports name it: ``nb.ipynb#cell3``.
+_CELL = re.compile(r"(?P<file>.+)#cell[1-9][0-9]*")
+
+
 class FileLineType(click.ParamType):
-    """``notes/grad.tex:12``: an existing file and a 1-based line."""
+    """``notes/grad.tex:12``: an existing file and a 1-based line; a notebook step as the
+    reports locate it, ``nb.ipynb#cell3:2`` (line 2 of cell 3), is accepted too."""
 
     name = "FILE:LINE"
 
@@ -89,12 +96,42 @@ class FileLineType(click.ParamType):
             self.fail(f"expected FILE:LINE, such as notes/grad.tex:12, not {value!r}", param, ctx)
         if not line.isdigit() or int(line) < 1:
             self.fail(f"the line in {value!r} must be a whole number of at least 1", param, ctx)
-        if not os.path.isfile(path):
-            self.fail(f"{path}: no such file", param, ctx)
+        file = file_of(path)
+        if not os.path.exists(file):
+            self.fail(f"{file}: no such file", param, ctx)
+        if not os.path.isfile(file):
+            self.fail(f"{file}: not a regular file", param, ctx)
         return FileLine(path, int(line))
 
 
+def file_of(path: str) -> str:
+    """The file part of a reported path: ``nb.ipynb`` for ``nb.ipynb#cell3`` (unless a file
+    is really named so), else the path itself."""
+    match = _CELL.fullmatch(path)
+    if match is None or os.path.exists(path):
+        return path
+    return match["file"]
+
+
 FILE_LINE = FileLineType()
+
+
+class SecondsType(click.ParamType):
+    """A time limit in seconds: a finite number, 0 or more (0: no limit)."""
+
+    name = "SECONDS"
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> float:
+        try:
+            seconds = float(value)
+        except (TypeError, ValueError):
+            self.fail(f"{value!r} is not a number of seconds", param, ctx)
+        if not math.isfinite(seconds) or seconds < 0:
+            self.fail(f"{value!r} is not a finite number of seconds, 0 or more (0: no limit)", param, ctx)
+        return seconds
+
+
+SECONDS = SecondsType()
 
 
 # --- the group: the one place errors become an exit status ---------------------------------
@@ -178,7 +215,7 @@ def cli() -> None:
               help="Random draws per size assignment.")
 @click.option("--jobs", "-j", type=click.IntRange(min=1), default=_DEFAULTS.jobs, show_default=True,
               help="Worker processes.")
-@click.option("--timeout", type=click.FloatRange(min=0), default=_DEFAULTS.timeout, show_default=True,
+@click.option("--timeout", type=SECONDS, default=_DEFAULTS.timeout, show_default=True,
               metavar="SECONDS", help="Time limit per step (0: none).")
 @_layout_option
 @_config_option
@@ -194,11 +231,17 @@ def check(ctx: click.Context, paths: tuple[str, ...], output: pathlib.Path | Non
     if output is not None:
         refuse_input(output, paths, run.config_path)
     from . import pipeline  # the checking stages load only when a check runs
+    from .documents.files import recording_reads
+    from .documents.patterns import anchor_all
 
-    with Progress(sys.stderr) as progress:
-        report = pipeline.check_paths(list(paths), settings, run.include, run.exclude, progress)
+    # configuration patterns are relative to the configuration file's folder
+    base = run.config_path.parent if run.config_path is not None else pathlib.Path.cwd()
+    include, exclude = anchor_all(run.include, base), anchor_all(run.exclude, base)
+    with Progress(sys.stderr) as progress, recording_reads() as read:
+        report = pipeline.check_paths(list(paths), settings, include, exclude, progress)
     if output is not None:
-        refuse_input(output, [f.path.partition("#")[0] for f in report.files], None)
+        reported = [f.path.partition("#")[0] for f in report.files]
+        refuse_input(output, reported, None, [(r.device, r.inode) for r in read])
     write_report(report, run.format, output, verbose)
     ctx.exit(report.exit_code(settings.strict))
 
@@ -224,24 +267,49 @@ def run_config(ctx: click.Context, paths: Sequence[str], config_file: pathlib.Pa
     return resolve(file, overrides)
 
 
-def refuse_input(output: pathlib.Path, inputs: Sequence[str], config: pathlib.Path | None) -> None:
-    """Refuse an ``--output`` that is one of the inputs (a checked document, a document in a
-    checked folder, the configuration file).
+def refuse_input(
+    output: pathlib.Path,
+    inputs: Sequence[str],
+    config: pathlib.Path | None,
+    read: Sequence[tuple[int, int]] = (),
+) -> None:
+    """Refuse an ``--output`` that is one of the inputs: a checked document under any name
+    (a symbolic or hard link: compared as files, like :func:`os.path.samefile`), a document
+    in a checked folder, a file a document read (``(device, inode)`` pairs in ``read``:
+    ``\\input`` files, macro-only ones too), the configuration file.
 
     :raises ToolError: it is.
     """
-    target = output.resolve()
+    try:
+        info = output.stat()
+    except OSError:
+        return  # nothing there yet (or nothing reachable): no input can be overwritten
+    target = (info.st_dev, info.st_ino)
     for given in inputs:
-        path = pathlib.Path(given).resolve()
-        same = target == path
-        inside = (
-            path.is_dir() and target.is_relative_to(path) and target.exists()
-            and target.suffix.lower() in DOCUMENT_SUFFIXES
-        )
-        if same or inside:
+        if _identity(given) == target or _inside_folder(output, given):
             raise ToolError(f"{output}: refusing to write the report over an input file")
-    if config is not None and target == config.resolve():
+    if target in set(read):
+        raise ToolError(f"{output}: refusing to write the report over an input file")
+    if config is not None and _identity(config) == target:
         raise ToolError(f"{output}: refusing to write the report over the configuration file")
+
+
+def _identity(path: str | os.PathLike[str]) -> tuple[int, int] | None:
+    """``(device, inode)`` of the file a path names (links followed), or None."""
+    try:
+        info = os.stat(path)
+    except OSError:
+        return None
+    return info.st_dev, info.st_ino
+
+
+def _inside_folder(output: pathlib.Path, given: str) -> bool:
+    """Whether ``output`` is an existing document below the checked folder ``given``."""
+    folder = pathlib.Path(given)
+    if not folder.is_dir():
+        return False
+    target = output.resolve()
+    return target.is_relative_to(folder.resolve()) and target.suffix.lower() in DOCUMENT_SUFFIXES
 
 
 def write_report(report: Report, format_name: str, output: pathlib.Path | None, verbose: bool) -> None:
@@ -251,7 +319,13 @@ def write_report(report: Report, format_name: str, output: pathlib.Path | None, 
     """
     reporter_class = REPORTERS[format_name]
     if output is None:
-        reporter_class(sys.stdout, verbose=verbose).write(report)
+        try:
+            reporter_class(sys.stdout, verbose=verbose).write(report)
+            sys.stdout.flush()
+        except BrokenPipeError:
+            raise
+        except OSError as error:  # a full disk, a failing terminal … (not a tool bug)
+            raise ToolError(f"cannot write the report to standard output: {error.strerror or error}") from error
         return
     buffer = io.StringIO()
     reporter_class(buffer, verbose=verbose, color=False).write(report)
@@ -280,7 +354,7 @@ def explain(ctx: click.Context, target: FileLine | None, math_text: str | None,
         text = _explainer("explain_math")(math_text)
     else:
         assert target is not None
-        settings = run_config(ctx, [target.path], config_file).settings
+        settings = run_config(ctx, [file_of(target.path)], config_file).settings
         text = _explainer("explain_line")(target.path, target.line, settings)
     click.echo(text.rstrip("\n"))
 
@@ -305,17 +379,20 @@ def _explainer(name: str) -> Any:
 class Progress:
     """A one-line step counter on stderr, for long runs on a terminal only.
 
-    Called by the pipeline as ``progress(done, total)`` after each decided step of a
-    document.  Nothing is shown until the run has taken :attr:`delay` seconds, nor when the
-    stream is not a terminal; the line is cleared at the end.
+    Called by the pipeline as ``progress(done, total)`` after each decided step, counted
+    over the whole run.  Nothing is shown until the run has taken :attr:`delay` seconds,
+    nor when the stream is not a terminal; the line is rewritten at most once per
+    :attr:`interval` (and for the last step), and cleared at the end.
     """
 
     delay = 1.0
+    interval = 0.1
 
     def __init__(self, stream: TextIO, clock: Any = time.monotonic) -> None:
         self.stream = stream
         self.clock = clock
         self.start = clock()
+        self.last = -math.inf
         self.steps = 0
         self.shown = False
         self.enabled = _isatty(stream)
@@ -329,11 +406,15 @@ class Progress:
             self.stream.flush()
 
     def __call__(self, done: int, total: int) -> None:
-        self.steps += 1
-        if not self.enabled or self.clock() - self.start < self.delay:
+        self.steps = done
+        if not self.enabled:
+            return
+        now = self.clock()
+        if now - self.start < self.delay or (now - self.last < self.interval and done < total):
             return
         self.shown = True
-        self.stream.write(f"\rstepcheck: {self.steps} steps checked (this file {done}/{total})\x1b[K")
+        self.last = now
+        self.stream.write(f"\rstepcheck: {done}/{total} steps checked\x1b[K")
         self.stream.flush()
 
 
