@@ -3,6 +3,7 @@ file, key and value, command-line precedence, and the API's string options."""
 
 from __future__ import annotations
 
+import logging
 import pathlib
 
 import pytest
@@ -54,11 +55,53 @@ def test_nearest_wins_and_stepcheck_toml_before_pyproject(repo):
     assert find_config(repo / "notes" / "a.md") == own
 
 
-def test_pyproject_without_table_is_passed_over(repo):
+def test_pyproject_without_table_is_passed_over(repo, caplog):
     outer = write(repo / "stepcheck.toml", "trials = 3\n")
     write(repo / "pkg" / "pyproject.toml", "[project]\nname = 'pump-network'\n")
-    write(repo / "pkg" / "broken" / "pyproject.toml", "[tool.stepcheck\n")  # not ours: ignored
-    assert find_config(repo / "pkg" / "broken" / "x.tex") == outer
+    write(repo / "pkg" / "broken" / "pyproject.toml", "[tool.black\n")  # not ours: ignored
+    with caplog.at_level(logging.DEBUG, logger="stepcheck.config"):
+        assert find_config(repo / "pkg" / "broken" / "x.tex") == outer
+    assert "not valid TOML and no [tool.stepcheck] table" in caplog.text
+
+
+#: Broken pyproject.toml files that hold our table (found in the raw text), and the line and
+#: column the TOML error names (as tomllib reports them; checked against the text by hand).
+BROKEN_OURS = [
+    ("[tool.stepcheck]\nstrict = yes\n", "line 2, column 10"),
+    ("[tool.stepcheck\nstrict = true\n", "line 1, column 16"),  # the ] forgotten
+    ('[ tool . "stepcheck" ]\nseed = 1\nseed = 2\n', "line 3, column 9"),
+    ("[tool.stepcheck.extra]\nx = \n", "line 2, column 5"),
+    ("[project]\nname = 'bridge'\n[tool]\nblack = 1\nstepcheck.strict = yes\n", "line 5, column 20"),
+    ("tool.stepcheck.strict = yes\n", "line 1, column 25"),
+]
+
+
+@pytest.mark.parametrize("content, where", BROKEN_OURS, ids=[c.splitlines()[0] for c, _ in BROKEN_OURS])
+def test_a_broken_pyproject_with_our_table_is_found_and_reported(repo, content, where):
+    config = write(repo / "pyproject.toml", content)
+    assert find_config(repo / "notes.tex") == config
+    with pytest.raises(ConfigError) as caught:
+        load_config(config)
+    assert str(caught.value).startswith(f"{config}: not valid TOML: ") and f"(at {where})" in str(caught.value)
+
+
+def test_a_pyproject_not_utf8_with_our_table_is_reported(repo):
+    config = repo / "pyproject.toml"
+    config.write_bytes(b"[tool.stepcheck]\n# r\xe9sum\xe9\nseed = 1\n")
+    assert find_config(repo / "notes.tex") == config
+    with pytest.raises(ConfigError, match="configuration file is not UTF-8 text"):
+        load_config(config)
+
+
+@pytest.mark.parametrize("content", [
+    "[tool.stepchecker]\nx = yes\n",
+    "[tool.other]\nstepcheck = yes\n",
+    "# [tool.stepcheck]\nx = yes\n",
+    "[tool]\nblack = 1\n[project]\nstepcheck = yes\n",
+], ids=["longer-name", "other-tool", "commented-out", "key-of-another-table"])
+def test_a_broken_pyproject_without_our_table_is_someone_elses(repo, content):
+    write(repo / "pyproject.toml", content)
+    assert find_config(repo / "notes.tex") is None
 
 
 def test_search_stops_at_repository_top(tmp_path):

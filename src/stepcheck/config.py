@@ -165,11 +165,38 @@ def find_config(start: pathlib.Path) -> pathlib.Path | None:
     return None
 
 
+#: Where a ``pyproject.toml`` opens our table, read from the raw text when the file is not
+#: valid TOML: a ``[tool.stepcheck]`` header (also ``[tool.stepcheck.…]``, or one whose
+#: ``]`` was forgotten), a dotted ``tool.stepcheck.… =`` key, or ``stepcheck =`` /
+#: ``stepcheck.… =`` under a ``[tool]`` header.
+_TOOL, _OURS, _GAP = r"""["']?tool["']?""", r"""["']?stepcheck["']?""", r"[ \t]*"
+_OUR_TABLE = re.compile(
+    rf"^{_GAP}\[\[?{_GAP}{_TOOL}{_GAP}\.{_GAP}{_OURS}{_GAP}(?:[].]|$)"
+    rf"|^{_GAP}{_TOOL}{_GAP}\.{_GAP}{_OURS}{_GAP}[.=]"
+    rf"|^{_GAP}\[{_GAP}{_TOOL}{_GAP}\][^\[]*?^{_GAP}{_OURS}{_GAP}[.=]",
+    re.MULTILINE,
+)
+
+
 def _has_table(pyproject: pathlib.Path) -> bool:
+    """Whether a ``pyproject.toml`` holds ``[tool.stepcheck]``.
+
+    A file that is not valid TOML (or not UTF-8) counts when its raw text shows our table,
+    so :func:`load_config` reports it with its line and column; without our table it is
+    someone else's broken file and is skipped (with a debug message).
+    """
     try:
-        data = tomllib.loads(pyproject.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
-        return False  # someone else's broken file is not ours to report
+        raw = pyproject.read_bytes()
+    except OSError as error:
+        logger.debug("skipping %s: cannot read it (%s)", pyproject, error.strerror or error)
+        return False
+    try:
+        data = tomllib.loads(raw.decode("utf-8"))
+    except (UnicodeDecodeError, tomllib.TOMLDecodeError) as error:
+        if _OUR_TABLE.search(raw.decode("utf-8", errors="replace")):
+            return True
+        logger.debug("skipping %s: not valid TOML and no [tool.stepcheck] table in it (%s)", pyproject, error)
+        return False
     tool = data.get("tool")
     return isinstance(tool, dict) and "stepcheck" in tool
 
