@@ -16,7 +16,8 @@ from stepcheck.reporters import REPORTERS
 from stepcheck.reporters._base import compact, counterexample_text, place_of, summary_text
 from stepcheck.reporters.github import escape_data, escape_property
 from stepcheck.reporters.markdown_table import code, plain
-from stepcheck.results import FileReport, Report
+from stepcheck.reporters.text import escape_controls
+from stepcheck.results import FileNote, FileReport, Report
 from stepcheck.verdicts import Method, Verdict
 
 FORMATS = list(REPORTERS)
@@ -106,11 +107,42 @@ def test_text_verbose_lists_every_step(report):
     assert "odd dir/a,b:c%d.md:6:1: holds: by float-sample" in verbose
 
 
-def test_text_multiline_message_stays_indented(report):
+def test_text_multiline_message_stays_on_its_line_escaped(report):
     lines = render("text", report).splitlines()
     index = next(i for i, line in enumerate(lines) if line.startswith("odd dir/"))
-    assert lines[index + 1] == "    second line <i>½</i> & `tick` | pipe"
-    assert lines[index + 3] == "    then retry"
+    assert lines[index] == ("odd dir/a,b:c%d.md:4:2: fails: differs: 50% off, a,b:c\\nsecond line <i>½</i> & "
+                            "`tick` | pipe")
+    assert lines[index + 1] == "    hint: try X_{ij} → X_{ji}\\r\\nthen retry"
+
+
+ESCAPES = [
+    ("plain \\oint é 𝐱", "plain \\oint é 𝐱"),       # backslashes and non-ASCII stay
+    ("a\nb", "a\\nb"),
+    ("a\r\nb", "a\\r\\nb"),
+    ("tab\there", "tab\\there"),
+    ("bell\x07", "bell\\x07"),
+    ("\x1b[31mred", "\\x1b[31mred"),                # no terminal control sequence gets through
+    ("del\x7f next\x85", "del\\x7f next\\x85"),
+    ("line\u2028para\u2029", "line\\u2028para\\u2029"),
+]
+
+
+@pytest.mark.parametrize("raw, shown", ESCAPES, ids=[repr(r) for r, _ in ESCAPES])
+def test_text_escapes_control_characters(raw, shown):
+    assert escape_controls(raw) == shown
+
+
+@pytest.mark.parametrize("path", ["pump\nnetwork.tex", "bridge\rcable.md", "heat\x1b[2Jexchanger.tex",
+                                  "sensor\u2028array.tex", "tab\tname.tex"],
+                         ids=["newline", "carriage-return", "escape-sequence", "line-separator", "tab"])
+def test_text_keeps_one_line_per_step_whatever_the_path(step_factory, path):
+    """Every line of the text report splits back into ``path:line:col: verdict: message``."""
+    step = step_factory(path, 3, 7, Verdict.FAILS, message="the sides differ\nat scalar inputs")
+    report = Report(seed=1, files=(FileReport(path, (step,), (FileNote(1, 1, "note\non two lines"),)),))
+    lines = render("text", report).splitlines()
+    assert lines == [f"{escape_controls(path)}:3:7: fails: the sides differ\\nat scalar inputs",
+                     f"{escape_controls(path)}:1:1: note: note\\non two lines",
+                     "stepcheck: 1 file, 1 step: 1 fails (seed 1)"]
 
 
 def test_text_summary_line(reports):

@@ -135,8 +135,6 @@ def test_github_annotations_round_trip_paths_and_messages(every):
     assert "unknown command '\\%25'" in every["one"]["github"]
 
 
-@pytest.mark.xfail(strict=True, reason="the text format prints a path raw, so a newline in a file name splits the "
-                   "'path:line:col: verdict: message' line in two (SPEC §10; the github format escapes it)")
 def test_text_lines_survive_a_newline_in_a_file_name(every):
     assert not any(line == "nl" for line in every["one"]["text"].splitlines())
 

@@ -2,11 +2,15 @@
 
 ``path:line:col: verdict: message``, the hint on an indented line below, a compact
 counterexample line where there is one; file notes as ``path:line:col: note: message``;
-``--verbose`` lists every step.  Colour goes through :func:`click.echo`, which drops it
-when the stream is not a terminal.
+``--verbose`` lists every step.  A newline or other control character in a path, message
+or hint is written escaped (``\\n``, ``\\x1b``), so a step stays one line and nothing
+from a document reaches the terminal as a control sequence.  Colour goes through
+:func:`click.echo`, which drops it when the stream is not a terminal.
 """
 
 from __future__ import annotations
+
+import re
 
 import click
 
@@ -49,9 +53,10 @@ class TextReporter(Reporter):
         """The line of one step, with its hint and counterexample lines."""
         verdict = click.style(step.verdict.value, fg=VERDICT_COLOURS[step.verdict], bold=True)
         message = message_of(step)
-        self._echo(f"{step.path}:{step.line}:{step.column}: {verdict}{': ' + _lines(message) if message else ''}")
+        where = f"{escape_controls(step.path)}:{step.line}:{step.column}"
+        self._echo(f"{where}: {verdict}{': ' + escape_controls(message) if message else ''}")
         if step.outcome.hint:
-            self._echo(f"{INDENT}hint: {_lines(step.outcome.hint)}")
+            self._echo(f"{INDENT}hint: {escape_controls(step.outcome.hint)}")
         counterexample = counterexample_text(step.outcome.counterexample)
         if counterexample:
             self._echo(f"{INDENT}counterexample: {counterexample}")
@@ -59,7 +64,7 @@ class TextReporter(Reporter):
     def note(self, path: str, note: FileNote) -> None:
         """A note about a file (an ambiguous shape, a layout switch …)."""
         label = click.style("note", fg="bright_black")
-        self._echo(f"{path}:{note.line}:{note.column}: {label}: {_lines(note.message)}")
+        self._echo(f"{escape_controls(path)}:{note.line}:{note.column}: {label}: {escape_controls(note.message)}")
 
     def summary(self, report: Report) -> None:
         """The closing line: counts of every verdict present, and the seed."""
@@ -71,7 +76,21 @@ class TextReporter(Reporter):
         click.echo(line, file=self.out, color=self.color)
 
 
-def _lines(text: str) -> str:
-    """Text whose second and later lines are indented, so every unindented output line
-    starts with ``path:line:col:``."""
-    return ("\n" + INDENT).join(line.rstrip() for line in text.splitlines())
+#: Characters that would break a line or act on a terminal: C0 and C1 controls, DEL, and
+#: the Unicode line and paragraph separators.
+_CONTROLS = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029]")
+
+#: The usual short escapes; any other control character is written ``\\xNN`` or ``\\uNNNN``.
+_SHORT_ESCAPES = {"\n": "\\n", "\r": "\\r", "\t": "\\t"}
+
+
+def _escape(match: re.Match[str]) -> str:
+    char = match.group()
+    code = ord(char)
+    return _SHORT_ESCAPES.get(char) or (f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}")
+
+
+def escape_controls(text: str) -> str:
+    """Text with every control character escaped (``a\\nb`` for a newline), so it stays on
+    one line of the report."""
+    return _CONTROLS.sub(_escape, text)
