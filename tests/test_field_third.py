@@ -57,10 +57,6 @@ _COMPONENT_POSITIVITY = (
     "inline '$R_1, R_2 > 0$' makes R a scalar, so R_1 is then a shape-error (positivity of "
     "components should not fix R's shape)"
 )
-_GATHER_MINUS_ROW = (
-    "a gather row ending in ', \\\\' followed by a row led by a unary minus with its own '=' is "
-    "glued to the row above, ', \\\\' included, and read as one sum"
-)
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
@@ -82,12 +78,6 @@ KNOWN: dict[str, str] = {
     "parcel-tagger-layernorm.md:46:55": _ONES_OUTER,
     "ice-rink-chiller-log.md:67:40": _COMPONENT_POSITIVITY,
     "ice-rink-chiller-log.md:71:40": _COMPONENT_POSITIVITY,
-    "balloon-tracker-update.tex:27:8": (
-        "a '&= ...' row after a row split by '\\quad\\text{since } X = Y' continues the side remark "
-        "X = Y instead of the main derivation, so 'KHP = P - PH^T K^T' is checked and fails"
-    ),
-    "coop-demand-elasticity.tex:43:12": _GATHER_MINUS_ROW + " (definition of v becomes a shape-error)",
-    "coop-demand-elasticity.tex:44:57": _GATHER_MINUS_ROW + " (Roy's identity becomes a shape-error)",
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

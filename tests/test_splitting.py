@@ -222,6 +222,111 @@ def test_operator_led_rows(text: str, expected: list[str]) -> None:
     assert s.unreadable == ()
 
 
+# A side remark after the main chain of a row (``\quad\text{since } ab = ba``) is a chain of
+# its own, and the next row continues the main chain -- the one whose relation stands at an
+# alignment mark -- not the remark (third field report, item D).  Positions counted by hand.
+SIDE_REMARK_CASES = [
+    (
+        "relation-led-row-continues-the-main-chain",
+        "\\begin{align}\n (a+b)^2 &= a^2 + 2ab + b^2 \\quad\\text{since } ab = ba \\\\\n &= b^2 + 2ab + a^2\n\\end{align}\n",
+        [
+            "doc.tex:2:13 1.1 (a+b)^2 = a^2 + 2ab + b^2",
+            "doc.tex:3:5 1.2 a^2 + 2ab + b^2 = b^2 + 2ab + a^2",
+            "doc.tex:2:53 2.1 ab = ba",
+        ],
+    ),
+    (
+        "alignat-marked-rows-with-two-remarks",
+        "\\begin{alignat}{2}\n"
+        "  p &= q + r && \\quad\\text{since } r = s \\\\\n"
+        "    &\\overset{\\text{(a)}}{=} q + s && \\quad\\text{since } s = t \\\\\n"
+        "    &= q + t\n"
+        "\\end{alignat}\n",
+        [
+            "doc.tex:2:8 1.1 p = q + r",
+            "doc.tex:3:30 1.2 q + r \\overset{\\text{(a)}}{=} q + s",
+            "doc.tex:4:8 1.3 q + s = q + t",
+            "doc.tex:2:40 2.1 r = s",
+            "doc.tex:3:62 3.1 s = t",
+        ],
+    ),
+    (
+        "remark-without-a-relation-is-not-continued",
+        "\\begin{align}\n  u &= v + w \\quad\\text{for all } t \\\\\n    &= w + v\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 u = v + w", "doc.tex:3:8 1.2 v + w = w + v"],
+    ),
+    (
+        "operator-led-row-continues-the-main-expression",
+        "\\begin{align}\n  E &= a + b \\quad\\text{where } b = c \\\\\n    &\\quad + d\n\\end{align}\n",
+        [
+            "doc.tex:2:8 1.1 E = a + b \\quad\\text{where } b = c \\\\\n    &\\quad + d",
+            "doc.tex:2:37 2.1 b = c",
+        ],
+    ),
+    (
+        "remark-on-the-last-row-only",
+        "\\begin{align}\n  m &= n \\\\\n    &= o \\qquad\\text{as } n = o\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 m = n", "doc.tex:3:8 1.2 n = o", "doc.tex:3:31 2.1 n = o"],
+    ),
+    (
+        "without-an-alignment-mark-the-literal-rule-stays",
+        "\\begin{gather}\n  x = y \\quad\\text{so}\\quad y = z \\\\\n  = w\n\\end{gather}\n",
+        ["doc.tex:2:7 1.1 x = y", "doc.tex:2:33 2.1 y = z", "doc.tex:3:5 2.2 z = w"],
+    ),
+]
+
+
+@pytest.mark.parametrize("text, expected", [c[1:] for c in SIDE_REMARK_CASES], ids=[c[0] for c in SIDE_REMARK_CASES])
+def test_a_side_remark_does_not_capture_the_next_row(text: str, expected: list[str]) -> None:
+    s = structure(text)
+    assert step_lines(s) == expected
+    assert s.unreadable == ()
+
+
+# A row that ends with punctuation (``, \\`` ``; \\`` ``. \\``) is complete: a next row led by a unary
+# minus with a relation of its own starts a new chain, and the punctuation is not part of any
+# side (third field report, item E).  Positions counted by hand.
+PUNCTUATED_ROW_CASES = [
+    (
+        "gather-comma-then-minus-row",
+        "\\begin{gather}\n  v = c - u, \\\\\n  -w = u\n\\end{gather}\n",
+        ["doc.tex:2:7 1.1 v = c - u", "doc.tex:3:8 2.1 -w = u"],
+    ),
+    (
+        "gather-semicolon-then-minus-row",
+        "\\begin{gather}\n  v = c - u; \\\\\n  -w = u\n\\end{gather}\n",
+        ["doc.tex:2:7 1.1 v = c - u", "doc.tex:3:8 2.1 -w = u"],
+    ),
+    (
+        "align-period-then-minus-row",
+        "\\begin{align}\n  v &= c - u. \\\\\n  -w = u\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 v = c - u", "doc.tex:3:8 2.1 -w = u"],
+    ),
+    (
+        "comma-and-remark-then-minus-row",
+        "\\begin{gather}\n  v = c - u, \\quad\\text{(budget)} \\\\\n  -\\nabla_{\\mathbf{p}} v = \\mathbf{1}\n\\end{gather}\n",
+        ["doc.tex:2:7 1.1 v = c - u", "doc.tex:3:28 2.1 -\\nabla_{\\mathbf{p}} v = \\mathbf{1}"],
+    ),
+    (
+        "comma-then-minus-row-without-a-relation-still-continues",
+        "\\begin{align}\n  f &= a + b, \\\\\n    &\\quad - c\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 f = a + b, \\\\\n    &\\quad - c"],
+    ),
+    (
+        "comma-then-relation-led-row-continues-the-chain",
+        "\\begin{align}\n  f &= a + b, \\\\\n    &= b + a\n\\end{align}\n",
+        ["doc.tex:2:8 1.1 f = a + b", "doc.tex:3:8 1.2 a + b = b + a"],
+    ),
+]
+
+
+@pytest.mark.parametrize("text, expected", [c[1:] for c in PUNCTUATED_ROW_CASES], ids=[c[0] for c in PUNCTUATED_ROW_CASES])
+def test_a_row_ending_in_punctuation_is_complete(text: str, expected: list[str]) -> None:
+    s = structure(text)
+    assert step_lines(s) == expected
+    assert s.unreadable == ()
+
+
 # Layout wrappers and matrix literals inside a step (blind report: \lefteqn, bmatrix).
 LAYOUT_CASES = [
     (

@@ -12,7 +12,7 @@ token work: no document, no directives, no numbering (see :mod:`.splitting`).
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Sequence
 
 from ..source import SourceText, Span
@@ -37,6 +37,8 @@ class Placed:
 
     token: Token
     row: int
+    aligned: bool = False
+    """A top-level alignment ``&`` stood right before the token in its row."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -222,6 +224,10 @@ class CleanRow:
     aligned_relation: bool = False
     """A top-level relation of the row stands right after an alignment ``&`` that follows
     some of the row's own text (``-y &= -y``): the row has a relation of its own."""
+    after_alignment: tuple[bool, ...] = ()
+    """Per token: a top-level alignment ``&`` stood right before it."""
+    complete: bool = False
+    """The row ended with trailing punctuation (``v = c - u, \\\\``): the expression is over."""
 
 
 def drop_alignment(tokens: Sequence[Token]) -> list[Token]:
@@ -264,12 +270,15 @@ def clean_row(row: Sequence[Token]) -> CleanRow:
     first, last = 0, len(cut)
     while first < last and cut[first][2] in (SPACE, NOTE, SEPARATOR):
         first += 1
+    complete = False
     while last > first and cut[last - 1][2] in (SPACE, NOTE, SEPARATOR, PUNCT):
+        complete = complete or cut[last - 1][2] == PUNCT
         last -= 1
     if first >= last:
         return CleanRow((), no_sum)
     start, end = cut[first][0], cut[last - 1][0] + cut[last - 1][1]
-    return CleanRow(tuple(tokens[start:end]), no_sum, _aligned_relation(tokens[start:end], after[start:end]))
+    kept, marks = tokens[start:end], after[start:end]
+    return CleanRow(tuple(kept), no_sum, _aligned_relation(kept, marks), tuple(marks), complete)
 
 
 def _aligned_relation(tokens: Sequence[Token], after: Sequence[bool]) -> bool:
@@ -306,64 +315,117 @@ def continues(tokens: Sequence[Token]) -> bool:
     return starts_with_operator(tokens) or relation_at(tokens, 0) is not None
 
 
-def continues_row(row: CleanRow) -> bool:
+def continues_row(row: CleanRow, previous: CleanRow | None = None) -> bool:
     """Whether a cleaned row continues the previous one (SPEC §3, refined): it starts with a
     relation (``&= D``), or with an operator and has no aligned relation of its own.  A row
-    ``-y &= -y`` starts a new chain: its leading sign is unary.  ``&\\quad + c`` continues."""
+    ``-y &= -y`` starts a new chain: its leading sign is unary.  ``&\\quad + c`` continues.
+
+    After a row that ended with punctuation (``v = c - u, \\\\``) the expression is over: an
+    operator-led row with a relation of its own (``-w = u``) starts a new chain; one without
+    a relation (``&\\quad - c``) still continues, so that none of its text is lost.
+    """
     if not row.tokens:
         return False
     if relation_at(row.tokens, 0) is not None:
         return True
-    return starts_with_operator(row.tokens) and not row.aligned_relation
+    if not starts_with_operator(row.tokens) or row.aligned_relation:
+        return False
+    return not (previous is not None and previous.complete and has_relation(row.tokens))
+
+
+def has_relation(tokens: Sequence[Token]) -> bool:
+    """Whether a relation stands at depth 0 (outside brackets, braces and delimiters)."""
+    return any(depth == 0 and not delimiter and relation_at(tokens, i) is not None for i, depth, delimiter in walk(tokens))
 
 
 def logical_lines(rows: Sequence[CleanRow], join_all: bool = False) -> list[list[Placed]]:
     """Join continued rows: each result is one run of text that chains are cut from."""
     lines: list[list[Placed]] = []
+    previous: CleanRow | None = None
     for index, row in enumerate(rows):
         if not row.tokens:
             continue
-        placed = [Placed(t, index) for t in row.tokens]
-        if lines and (join_all or continues_row(row)):
+        marks = row.after_alignment or (False,) * len(row.tokens)
+        placed = [Placed(t, index, mark) for t, mark in zip(row.tokens, marks)]
+        if lines and (join_all or continues_row(row, previous)):
             lines[-1].extend(placed)
         else:
             lines.append(placed)
+        previous = row
     return lines
+
+
+@dataclass
+class _OpenChain:
+    """A chain being cut from a logical line (working state of :func:`chains_of_line`)."""
+
+    sides: list[list[int]] = field(default_factory=lambda: [[]])
+    """Token indices of each side so far."""
+    relations: list[tuple[FoundRelation, int]] = field(default_factory=list)
+    aligned: bool = False
+    """One of its relations stands at an alignment ``&``: it is its rows' main chain."""
+
+    def first(self) -> int:
+        """The index of its first token (chains are listed in the order they begin)."""
+        indices = [k for side in self.sides for k in side] + [at for _, at in self.relations]
+        return min(indices, default=0)
 
 
 def chains_of_line(line: Sequence[Placed], source: SourceText) -> list[ChainDraft | DraftError]:
     """Cut one logical line into chains at depth-0 separators and into sides at depth-0
     relations.  A separator where no expression has started (just after a relation or
-    at the start) is dropped, as are spacing, ``\\label``, ``\\tag`` and comments."""
+    at the start) is dropped, as are spacing, ``\\label``, ``\\tag`` and comments.
+
+    A side remark does not take over the derivation: when a chain with a relation at an
+    alignment mark (``(a+b)^2 &= …``) is followed by a remark chain (``\\quad\\text{since }
+    ab = ba``), the next row of the line (``&= …``, ``&\\quad + c``) continues the main chain,
+    and the remark stays a chain of its own.  Chains are returned in the order they begin.
+    """
     tokens = [p.token for p in line]
     info = list(walk(tokens))
-    drafts: list[ChainDraft | DraftError] = []
-    sides: list[list[int]] = [[]]
-    relations: list[tuple[FoundRelation, int]] = []
+    done: list[_OpenChain] = []
+    current, main = _OpenChain(), None
+    pending = False  # an alignment mark since the last thing kept
     i, n = 0, len(tokens)
     while i < n:
+        if main is not None and not current.aligned and line[i].row != line[i - 1].row:
+            done.append(current)  # the side remark ends with its row
+            current, main = main, None
+        pending = pending or line[i].aligned
         _, depth, delimiter = info[i]
         if depth == 0 and not delimiter:
             found = relation_at(tokens, i)
             if found is not None:
-                relations.append((found, i))
-                sides.append([])
+                current.relations.append((found, i))
+                current.sides.append([])
+                current.aligned = current.aligned or pending
+                pending = False
                 i += found.length
                 continue
             length = _separator_length(tokens, i)
             if length:
-                if sides[-1] and not _relation_after_separators(tokens, info, i):
-                    drafts.extend(_finish(line, sides, relations, source))
-                    sides, relations = [[]], []
+                if current.sides[-1] and not _relation_after_separators(tokens, info, i):
+                    if not current.aligned:
+                        done.append(current)
+                    else:  # park the main chain: a later row may continue it
+                        if main is not None:
+                            done.append(main)
+                        main = current
+                    current = _OpenChain()
+                pending = False
                 i += length
                 continue
         length, category = unit_at(tokens, i)
-        if category == SPACE:
-            i += length
-            continue
-        sides[-1].extend(range(i, i + length))
+        if category != SPACE:
+            current.sides[-1].extend(range(i, i + length))
+            pending = False
         i += length
-    drafts.extend(_finish(line, sides, relations, source))
+    done.append(current)
+    if main is not None:
+        done.append(main)
+    drafts: list[ChainDraft | DraftError] = []
+    for chain in sorted(done, key=_OpenChain.first):
+        drafts.extend(_finish(line, chain.sides, chain.relations, source))
     return drafts
 
 
