@@ -24,6 +24,7 @@ from ..expressions import nodes as n
 from ..expressions.chains import Chain, Side
 from ..expressions.errors import ParseError
 from ..expressions.tokens import Token, TokenKind
+from ..expressions.vocabulary import OPERATOR_NAMES
 from ..source import SourceText
 from ..verdicts import RelationKind
 from .model import Definition
@@ -95,7 +96,9 @@ def definition_form(tree: n.Node, side: Side, source: SourceText, read: Reader) 
     name = symbol_name(tree)
     if name is not None:
         return Form(name, (), ())
-    if isinstance(tree, n.Apply) and tree.user:
+    if isinstance(tree, n.Apply):
+        if not tree.user:
+            return None  # tr(S), \det(A), \log(x), \sigma(z): a built-in meaning, checked
         params = tuple(tree.args)
         if all(isinstance(p, n.Symbol) for p in params):
             return Form(tree.func, (), params)
@@ -128,7 +131,8 @@ def _head_name(head: Sequence[Token], source: SourceText, read: Reader) -> str |
     try:
         tree = read(head, source)
     except ParseError:
-        return _operator_name(head)
+        name = _operator_name(head)
+        return None if name in OPERATOR_NAMES else name  # \operatorname{tr}(a, b): the trace, misused
     return tree.name if isinstance(tree, n.Symbol) and not tree.subs else None
 
 

@@ -1,0 +1,123 @@
+"""Context-stage fixes from the third field trial (SPEC §4, §5, §7, §8).
+
+- A built-in function applied to an argument (``\\operatorname{tr}(S)``, ``\\det(A)``,
+  ``\\log(x)``, ``\\exp``, the logistic ``\\sigma(z)``) has a meaning of its own: the first
+  step of such a chain is a claim to check, never a definition of the function.
+- Positivity stated of components (``R_1, R_2 > 0``) says nothing of the symbol's shape.
+- Bars around a square matrix (``\\log|C|``) are its determinant: a scalar.
+- An inline number definition (``($a = 0$)``) gets one note.
+- A symbol that only unchecked math mentions (an inline ``\\approx``) gets no note about
+  its shape.
+
+Sources for the verdicts: the trace is the sum of the diagonal entries, and
+``\\det A = \\det A^\\top`` (standard linear algebra; *The Matrix Cookbook*, Petersen &
+Pedersen 2012, §1 — section recalled from memory); the logistic function is
+``1/(1 + e^{-z})`` and ``\\exp``/``\\log`` are inverse to each other (textbook definitions);
+the parallel-resistance identity ``1/R_1 + 1/R_2 = (R_1 + R_2)/(R_1 R_2)`` is fraction
+arithmetic, re-derived with ``sympy.simplify`` in :func:`test_the_resistance_identities_are_what_sympy_says`;
+``\\sqrt{r^2} = r`` holds for positive r only (common practice); writing ``|C|`` for
+``\\det C`` is common practice in statistics.  Scenarios: a die insert's stress deviator, a
+chiller's thermal resistances, a bakery's demand covariance, a kiln's cooling fit, a weather
+balloon's tracker.
+"""
+
+from __future__ import annotations
+
+import pytest
+from context_helpers import document_context, plan_at
+
+from stepcheck import api
+
+
+def _steps(text: str, kind: str = "md") -> dict[int, dict]:
+    report = api.check_text(text, kind=kind, seed=11).to_dict()
+    return {s["line"]: s for s in report["files"][0]["steps"]} if report["files"] else {}
+
+
+def _verdicts(text: str, kind: str = "md") -> dict[int, str]:
+    return {line: step["verdict"] for line, step in _steps(text, kind).items()}
+
+
+def _notes(text: str, kind: str = "md") -> list[tuple[int, int, str]]:
+    report = api.check_text(text, kind=kind, seed=11).to_dict()
+    return [(n["line"], n["column"], n["message"]) for f in report["files"] for n in f["notes"]]
+
+
+# --------------------------------------------------------------------------- A: built-in functions
+
+
+#: A die insert: stress s (3×3), a press matrix A (4×4), a positive load x, a scalar t.
+DECLARED = (
+    "Let $s \\in \\mathbb{R}^{3\\times 3}$, $A \\in \\mathbb{R}^{4\\times 4}$, $x > 0$, "
+    "$\\mathbf{v} \\in \\mathbb{R}^{3}$.\n\n"
+)
+
+BUILT_IN_CLAIMS = [
+    # (id, display on line 4, verdict)
+    ("trace-operatorname-holds", "\\operatorname{tr}(s) = s_{kk}", "holds"),
+    ("trace-operatorname-wrong", "\\operatorname{tr}(s) = s_{11}", "fails"),
+    ("trace-capital-holds", "\\operatorname{Tr}(A) = A_{ii}", "holds"),
+    ("trace-mathrm-holds", "\\mathrm{tr}(A) = A_{jj}", "holds"),
+    ("trace-zero-is-a-claim", "\\operatorname{tr}(s) = 0", "fails"),
+    ("trace-coloneq-is-checked", "\\operatorname{tr}(A) := A_{ii}", "holds"),
+    ("det-transpose-holds", "\\det(A) = \\det(A^\\top)", "holds"),
+    ("log-holds", "\\log(x) = \\ln x", "holds"),
+    ("exp-wrong", "\\exp(t) = e^{2t}", "fails"),
+    ("logistic-holds", "\\sigma(t) = \\frac{1}{1 + e^{-t}}", "holds"),
+    ("logistic-wrong-sign", "\\sigma(t) = \\frac{1}{1 + e^{t}}", "fails"),
+    ("softmax-holds", "\\operatorname{softmax}(\\mathbf{v}) = \\frac{\\exp(\\mathbf{v})}{\\mathbf{1}^\\top\\exp(\\mathbf{v})}", "holds"),
+]
+
+
+@pytest.mark.parametrize(
+    "display, verdict", [c[1:] for c in BUILT_IN_CLAIMS], ids=[c[0] for c in BUILT_IN_CLAIMS]
+)
+def test_a_built_in_function_applied_on_the_left_is_a_claim_not_a_definition(display, verdict):
+    text = DECLARED + f"$$\n{display}\n$$\n"
+    plan = plan_at(document_context(text), 4)
+    assert plan.defines is None
+    assert _verdicts(text) == {4: verdict}
+
+
+def test_a_declared_trace_operator_set_to_zero_is_checked_and_later_steps_use_the_trace():
+    # the die insert's deviator: \tr from \DeclareMathOperator; "\tr(s) = 0" is a claim (false
+    # for a random s), and the deviator's trace form still uses the real trace
+    text = (
+        "\\DeclareMathOperator{\\tr}{tr}\n"                                  # 1
+        "Let $\\sigma \\in \\mathbb{S}^{3}$.\n"                              # 2
+        "\\[ \\tr(\\sigma) = 0 \\]\n"                                        # 3
+        "\\[ s = \\sigma - \\tfrac13 \\tr(\\sigma) I \\]\n"                  # 4
+        "\\[ \\tr(s) = s_{kk} = \\sigma_{kk} - \\sigma_{jj} \\]\n"           # 5
+    )
+    steps = _steps(text, "tex")
+    assert [steps[k]["verdict"] for k in (3, 4)] == ["fails", "defines"]
+    assert steps[3]["message"] != "defines tr"
+    report = api.check_text(text, kind="tex", seed=11).to_dict()
+    line5 = [s["verdict"] for s in report["files"][0]["steps"] if s["line"] == 5]
+    assert line5 == ["holds", "holds"]  # the deviator is traceless (textbook identity)
+
+
+def test_the_trace_with_two_arguments_is_not_a_definition_of_tr():
+    plan = document_context("$$\n\\operatorname{tr}(a, b) = a + b\n$$\n").plans[0]
+    assert plan.defines is None
+    assert _verdicts("$$\n\\operatorname{tr}(a, b) = a + b\n$$\n") == {2: "parse-error"}
+
+
+@pytest.mark.parametrize(
+    "display, name",
+    [
+        ("\\sigma = 2", "\\sigma"),  # a standard deviation, bare
+        ("\\sigma_{ij} = \\lambda \\delta_{ij}", "\\sigma"),  # a stress, with indices
+        ("\\operatorname{Cov}(g) = c^2", "Cov"),  # an operator the tool does not know
+    ],
+    ids=["sigma-symbol", "sigma-stress", "unknown-operator"],
+)
+def test_symbols_and_unknown_operators_are_still_definable(display, name):
+    plan = document_context(f"$$\n{display}\n$$\n").plans[0]
+    assert plan.defines is not None and plan.defines.name == name
+
+
+def test_a_declared_function_is_still_definable():
+    text = "<!-- stepcheck: function f -->\n\n$$\nf(x) = x^2\n$$\n\n$$\nf(3) = 9\n$$\n"
+    assert plan_at(document_context(text), 4).defines.name == "f"
+    assert _verdicts(text) == {4: "defines", 8: "holds"}
