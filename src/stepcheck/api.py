@@ -26,8 +26,11 @@ def check_paths(paths: Sequence[str] | str, **options: Any) -> Report:
     :param options: any field of :class:`~stepcheck.settings.Settings` (``seed``, ``trials``,
         ``timeout``, ``layout``, ``strict`` …) or configuration key (``indices``), with enum
         members or the configuration's strings (``layout="denominator"``), plus
-        ``include``/``exclude`` glob lists.
-    :raises stepcheck.documents.InputError: a path is missing or unreadable.
+        ``include``/``exclude`` glob lists, which filter what a folder walk finds: a relative
+        pattern is relative to the working folder, an absolute one is absolute, and ``**/``
+        matches zero or more folders (git rules, see :mod:`stepcheck.documents.patterns`).
+    :raises stepcheck.documents.InputError: a path is missing or unreadable, or is a named
+        pipe, socket or device (one found in a folder is skipped with a note instead).
     :returns: the report; ``Report.to_dict()`` is the SPEC §11 JSON.
     """
     from . import pipeline
