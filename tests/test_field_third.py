@@ -45,10 +45,6 @@ VERDICTS = {
 }
 DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
-_TRACE_DEFINED = (
-    "\\tr(s) = 0 with \\tr from \\DeclareMathOperator is taken as a definition of a function 'tr' "
-    "(SPEC par. 8: tr is the trace operator, not a symbol with an argument list)"
-)
 _ONES_OUTER = (
     "\\mathbf{1}\\mathbf{1}^\\top beside I and a d-vector is refused as 'a product of ones vectors "
     "of unknown size' (SPEC par. 7: ones vectors are sized by their context)"
@@ -60,9 +56,6 @@ _COMPONENT_POSITIVITY = (
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "press-die-plasticity.tex:29:7": _TRACE_DEFINED + "; s = sigma - tr(sigma) I/3 then fails",
-    "press-die-plasticity.tex:29:56": _TRACE_DEFINED,
-    "press-die-plasticity.tex:87:8": _TRACE_DEFINED + "; the trace form of W then fails",
     "press-die-plasticity.tex:96:10": (
         "\\mathrm{d}W = sigma_ij \\mathrm{d}epsilon_ij: the differential d is read as a scalar symbol "
         "d times W, and the step 'fails' instead of being refused"
