@@ -27,7 +27,7 @@ from ..source import SourceText, Span
 from ..verdicts import RelationKind
 from . import definitions as defs
 from . import heights
-from .declarations import RowFacts, assumption_of, assumption_table, read_rows, set_letters
+from .declarations import RowFacts, assumption_of, assumption_table, read_rows, set_letters, states_components
 from .inference import Inference, Unit, infer_shapes
 from .model import Assumption, AssumptionKind, Definition, StepContext, StepOptions, Summation, Vocabulary
 from .options import OptionTimeline, directive_vocabulary, index_like_letters, inline_sizes, sum_limit_letters, with_options
@@ -263,7 +263,7 @@ def _assumption(
     if stated is None or (defined is not None and defined(stated[0], _key(item.chain, index))):
         return None
     span = item.chain.sides[index - 1].span.join(item.chain.sides[index].span)
-    return Assumption(stated[0], stated[1], item.chain.source, span)
+    return Assumption(stated[0], stated[1], item.chain.source, span, states_components(lhs))
 
 
 def _units(

@@ -205,7 +205,7 @@ def read_declarations(row: Row, read: Reader) -> tuple[list[Declaration], list[A
         for item in _symbols(items, row.source, read):
             declarations.extend(_declaration(item, meaning[0], row.source, span))
             if meaning[1] is not None:
-                assumptions.append(Assumption(item.name, meaning[1], row.source, span))
+                assumptions.append(Assumption(item.name, meaning[1], row.source, span, states_components(item)))
     return declarations, assumptions, notes
 
 
@@ -249,6 +249,12 @@ def _declaration(symbol: n.Symbol, shape: Shape, source: SourceText, span: Span)
 
 
 # --------------------------------------------------------------------------- assumption forms
+
+
+def states_components(lhs: n.Node) -> bool:
+    """Whether an assumption's left side is a symbol written with subscripts (``R_2 > 0``,
+    ``x_i \\ge 0``): a statement about entries, not about the bare symbol."""
+    return isinstance(lhs, n.Symbol) and bool(lhs.subs)
 
 
 def _bare(node: n.Node) -> str | None:
@@ -366,7 +372,7 @@ def relation_assumptions(row: Row, read: Reader) -> list[Assumption]:
         stated = assumption_of(lhs, rhs, segment[k].text)
         if stated is not None:
             span = Span(segment[0].span.start, segment[-1].span.end)
-            found.append(Assumption(stated[0], stated[1], row.source, span))
+            found.append(Assumption(stated[0], stated[1], row.source, span, states_components(lhs)))
     return found
 
 

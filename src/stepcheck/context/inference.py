@@ -143,10 +143,12 @@ def _is_capital(name: str) -> bool:
 
 
 def _signed(assumptions: Iterable[Assumption]) -> dict[str, Assumption]:
-    """Plain symbols stated positive or nonnegative (``b > 0``), by name (first statement)."""
+    """Plain symbols stated positive or nonnegative (``b > 0``), by name (first statement).
+    A statement about components (``R_1, R_2 > 0``) does not count: it says nothing of
+    the shape."""
     found: dict[str, Assumption] = {}
     for assumption in assumptions:
-        if assumption.kind in (AssumptionKind.POSITIVE, AssumptionKind.NONNEGATIVE):
+        if assumption.kind in (AssumptionKind.POSITIVE, AssumptionKind.NONNEGATIVE) and not assumption.components:
             found.setdefault(assumption.name, assumption)
     return found
 

@@ -110,6 +110,9 @@ class Assumption:
     kind: AssumptionKind
     source: SourceText
     span: Span
+    components: bool = False
+    """Stated of written components (``R_1, R_2 > 0``, ``x_i \\ge 0``), not of the bare
+    symbol: the entries have the property, and the statement says nothing of the shape."""
 
 
 @dataclass(frozen=True, slots=True)
