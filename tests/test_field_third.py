@@ -49,10 +49,6 @@ _ONES_OUTER = (
     "\\mathbf{1}\\mathbf{1}^\\top beside I and a d-vector is refused as 'a product of ones vectors "
     "of unknown size' (SPEC par. 7: ones vectors are sized by their context)"
 )
-_COMPONENT_POSITIVITY = (
-    "inline '$R_1, R_2 > 0$' makes R a scalar, so R_1 is then a shape-error (positivity of "
-    "components should not fix R's shape)"
-)
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
@@ -69,8 +65,6 @@ KNOWN: dict[str, str] = {
     "parcel-tagger-layernorm.md:33:5": _ONES_OUTER,
     "parcel-tagger-layernorm.md:40:4": _ONES_OUTER,
     "parcel-tagger-layernorm.md:46:55": _ONES_OUTER,
-    "ice-rink-chiller-log.md:67:40": _COMPONENT_POSITIVITY,
-    "ice-rink-chiller-log.md:71:40": _COMPONENT_POSITIVITY,
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
