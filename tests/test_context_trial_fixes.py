@@ -25,9 +25,10 @@ from __future__ import annotations
 
 import pytest
 import sympy
-from context_helpers import document_context, plan_at
+from context_helpers import document_context, plan_at, read_expression, step_context
 
 from stepcheck import api
+from stepcheck.checks.shapes import expression_shape
 from stepcheck.context.model import AssumptionKind as K
 
 
@@ -185,3 +186,46 @@ def test_the_resistance_identities_are_what_sympy_says():
     assert sympy.simplify(1 / r1 + 1 / r2 - (r1 + r2) / (r1 * r2)) == 0
     assert sympy.simplify(1 / r1 + 1 / r2 - 1 / (r1 + r2)) != 0
     assert sympy.sqrt(r1**2) == r1
+
+
+# --------------------------------------------------------------------------- G: bars around a square matrix
+
+#: C, S: square covariances; X: n×d data; x: a d-vector.
+SHAPES = {"C": ("d", "d"), "S": (3, 3), "X": ("n", "d"), "x": ("d",), "R": (3, 2), "a": ()}
+
+
+@pytest.mark.parametrize(
+    "text, expected",
+    [
+        ("|C|", ()),
+        ("\\log|C|", ()),
+        ("|S|", ()),
+        ("|C| C^{-1}", ("d", "d")),
+        ("|X|", ("n", "d")),
+        ("|R|", (3, 2)),
+        ("|x|", ("d",)),
+        ("|x^\\top|", (1, "d")),
+        ("|a|", ()),
+    ],
+    ids=["square-letter", "log-of-bars", "square-fixed", "scales-a-matrix", "non-square", "non-square-fixed",
+         "vector", "row", "scalar"],
+)
+def test_bars_around_a_square_matrix_are_a_scalar_and_elementwise_otherwise(text, expected):
+    context = step_context(SHAPES)
+    node, source = read_expression(text, context)
+    shape, errors = expression_shape(node, context, source)
+    assert errors == []
+    assert shape == expected
+
+
+def test_log_bars_of_a_declared_covariance_have_no_shape_error():
+    # a bakery's demand covariance, declared symmetric positive definite
+    text = "Let $C \\in \\mathbb{S}^{3}_{++}$.\n\n$$\n\\log|C| = \\log\\det C\n$$\n"
+    assert plan_at(document_context(text), 4).findings == ()
+
+
+def test_bars_around_a_matrix_assumed_positive_definite_are_a_scalar():
+    # no declared size: the assumption alone makes \Sigma square
+    text = "Let $\\Sigma \\succ 0$.\n\n$$\n\\frac{1}{|\\Sigma|} = \\det(\\Sigma^{-1})\n$$\n"
+    plan = plan_at(document_context(text), 4)
+    assert plan.findings == ()

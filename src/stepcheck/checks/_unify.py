@@ -102,6 +102,15 @@ class Dims:
             return self.sizes.get(value.name)
         return None
 
+    def same(self, a: DimId, b: DimId) -> bool:
+        """Whether two dimensions are known to be one size (one root, or the same fixed
+        size); unlike :meth:`unify`, an unknown is not taken to match."""
+        ra, rb = self.find(a), self.find(b)
+        if ra == rb:
+            return True
+        size = self._size(ra)
+        return size is not None and size == self._size(rb)
+
     def is_product(self, dim: DimId) -> bool:
         """Whether the dimension is a product of others (``n·d``, from ``vec`` or ``\\otimes``)."""
         return isinstance(self._value[self.find(dim)], _Prod)

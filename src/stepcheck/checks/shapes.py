@@ -470,9 +470,19 @@ class StepShapes(ShapeLearning):
         return SCALAR
 
     def _abs(self, node: n.Node) -> Val:
+        """``|x|`` is entry by entry, except that bars around a square matrix are its
+        determinant (``\\log|C|``, ``|\\Sigma|``: common practice in statistics)."""
         assert isinstance(node, n.Abs)
         inner = self.visit(node.operand)
+        if inner.shape is not None and self._is_square_matrix(inner.shape):
+            return SCALAR
         return Val(inner.shape, number=inner.number)
+
+    def _is_square_matrix(self, shape: Ids) -> bool:
+        """A matrix (not a scalar, not a vector) known to be square."""
+        if len(shape) != 2 or self.env.is_scalar(shape) or self.env.vector_length(shape) is not None:
+            return False
+        return self.dims.same(shape[0], shape[1])
 
     def _inner(self, node: n.Node) -> Val:
         assert isinstance(node, n.Inner)
