@@ -229,3 +229,80 @@ def test_bars_around_a_matrix_assumed_positive_definite_are_a_scalar():
     text = "Let $\\Sigma \\succ 0$.\n\n$$\n\\frac{1}{|\\Sigma|} = \\det(\\Sigma^{-1})\n$$\n"
     plan = plan_at(document_context(text), 4)
     assert plan.findings == ()
+
+
+# --------------------------------------------------------------------------- trap 1: inline numbers
+
+KILN = "The residual is $r = y - a\\,e^{-k t}$; we start the fit at ($a = 0$).\n\n"
+KILN_STEP = "$$\n\\frac{\\partial}{\\partial k}\\tfrac12 r^2 = -a\\, t\\, e^{-k t}\\, r\n$$\n"
+A_NOTE = "a is set to 0 by this inline math; steps that use a take this value"
+
+
+def test_an_inline_number_definition_gets_one_note_at_its_place():
+    notes = [n for n in _notes(KILN + KILN_STEP) if "set to" in n[2]]
+    assert notes == [(1, 62, A_NOTE)]  # column of `a` in `($a = 0$)`
+
+
+def test_an_inline_number_definition_noted_even_when_several_steps_use_it():
+    text = KILN + KILN_STEP + "\n$$\na + k = k\n$$\n"
+    assert [n[2] for n in _notes(text) if "set to" in n[2]] == [A_NOTE]
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        # nothing checked uses a
+        "The fit starts at ($a = 0$).\n\n$$\nk + t = t + k\n$$\n",
+        # a display definition wins over the inline one
+        "The fit starts at ($a = 0$).\n\n$$\na := 2 k\n$$\n\n$$\na + k = 3k\n$$\n",
+        # d = 3 fixes a size, it does not define a value
+        "Let $\\mathbf{x} \\in \\mathbb{R}^{d}$ with $d = 3$.\n\n$$\n\\mathbf{x}^\\top\\mathbf{x} = x_i x_i\n$$\n",
+        # an inline definition by an expression is the "where" clause SPEC §4 describes
+        KILN.replace("($a = 0$)", "a guess") + KILN_STEP,
+    ],
+    ids=["unused", "display-wins", "dimension-size", "where-clause"],
+)
+def test_no_inline_value_note_where_nothing_is_silently_fixed(text):
+    assert not [n for n in _notes(text) if "set to" in n[2]]
+
+
+def test_an_inline_value_used_through_a_definition_is_noted():
+    text = "Take ($\\beta = \\tfrac12$) and $g = \\beta t$.\n\n$$\n2 g = t\n$$\n"
+    assert [n[2] for n in _notes(text) if "set to" in n[2]] == [
+        "\\beta is set to \\tfrac12 by this inline math; steps that use \\beta take this value"
+    ]
+
+
+# --------------------------------------------------------------------------- noise: unchecked math
+
+
+BALLOON = (
+    "Let $H \\in \\mathbb{R}^{2\\times 2}$, $\\Sigma \\in \\mathbb{S}^{2}$.\n\n"
+    "To first order $J\\,\\Sigma\\,J^\\top \\approx \\Sigma'$, i.e.\n\n"
+)
+
+
+def test_a_symbol_only_in_an_inline_approximation_gets_no_shape_note():
+    text = BALLOON + "$$\nH \\Sigma H^\\top = (H \\Sigma H^\\top)^\\top\n$$\n"
+    assert not [n for n in document_context(text).notes if "ambiguous" in n.message]
+
+
+def test_a_symbol_only_in_a_display_approximation_gets_no_shape_note():
+    text = "Let $\\Sigma \\in \\mathbb{S}^{2}$.\n\n$$\nJ \\Sigma J^\\top \\approx \\Sigma\n$$\n"
+    assert not [n for n in document_context(text).notes if "ambiguous" in n.message]
+
+
+def test_the_same_symbol_in_a_checked_step_keeps_its_note():
+    text = BALLOON + "$$\nJ \\Sigma J^\\top = J^2 \\Sigma\n$$\n"
+    notes = [(n.source.position(n.span.start).line, n.message) for n in document_context(text).notes]
+    assert (3, "shape of J is ambiguous; taken as a scalar") in notes
+
+
+def test_a_symbol_reached_through_an_inline_definition_keeps_its_note():
+    # P only appears in the inline "where" clause, but the checked step uses q through it
+    text = (
+        "Let $X \\in \\mathbb{R}^{n\\times d}$, where $q = P X$.\n\n"
+        "$$\nq = X\n$$\n"
+    )
+    messages = [n.message for n in document_context(text).notes]
+    assert "shape of P is ambiguous; taken as a scalar" in messages

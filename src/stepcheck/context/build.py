@@ -13,7 +13,7 @@ from __future__ import annotations
 import dataclasses
 import logging
 from dataclasses import dataclass, field
-from typing import Callable, Mapping, Sequence
+from typing import Callable, Iterable, Mapping, Sequence
 
 from ..checks import messages as mm
 from ..checks.indices import check_indices
@@ -292,6 +292,25 @@ def _units(
     return units
 
 
+def _checked_sides(item: ReadChain) -> Iterable[Node]:
+    """The sides of a display chain that some checked relation touches (not ``\\approx`` …)."""
+    if not item.display:
+        return
+    relations = item.chain.relations
+    for k, tree in enumerate(item.trees):
+        touching = relations[max(k - 1, 0) : k + 1]
+        if tree is not None and any(r.kind is not RelationKind.APPROX for r in touching):
+            yield tree
+
+
+def _checked_names(read: Sequence[ReadChain], definitions: Iterable[Definition]) -> set[str]:
+    """The names a checked display step uses, directly or through definitions.  Inline
+    math is never checked, nor is an ``\\approx``, so a symbol only they mention
+    (``$J\\Sigma J^\\top \\approx \\Sigma'$``) gets no note about its shape."""
+    roots = {name for item in read for tree in _checked_sides(item) for name in defs.names_in(tree)}
+    return defs.used_names(roots, definitions)
+
+
 def _cycle_finding(lhs: Node, rhs: Node, in_force: Mapping[str, Definition], span: Span) -> Diagnostic | None:
     cycle = defs.find_cycle(defs.names_in(lhs) | defs.names_in(rhs), in_force)
     if cycle is None:
@@ -405,7 +424,9 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
         if (found := _assumption(item, index, defined)) is not None
     }
     assumptions = list(facts.assumptions) + list(step_assumptions.values())
-    inference = infer_shapes(_units(read, definitions, step_assumptions), facts.declarations, assumptions, vocabulary.dimensions, sizes)
+    used = _checked_names(read, definitions.values())
+    units = _units(read, definitions, step_assumptions)
+    inference = infer_shapes(units, facts.declarations, assumptions, vocabulary.dimensions, sizes, noted=used)
     homes = _homes(structure, timeline, vocabulary, read, definitions, facts)
     if homes:
         inference = dataclasses.replace(inference, table=dataclasses.replace(inference.table, homes=homes))
@@ -418,4 +439,5 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     ]
     notes = [ContextNote(n.source, n.span, n.message) for n in (*timeline.notes, *facts.notes, *inference.notes)]
     notes.extend(ContextNote(d.source, d.span, defs.value_note(d)) for d in defs.value_definitions(doc.scope))
+    notes.extend(ContextNote(d.source, d.span, defs.inline_value_note(d)) for d in defs.inline_values(definitions.values(), used))
     return DocumentContext(tuple(plans), tuple(notes), dict(inference.origins))

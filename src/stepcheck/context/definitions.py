@@ -287,6 +287,57 @@ def value_note(definition: Definition) -> str:
     )
 
 
+# --------------------------------------------------------------------------- uses and values
+
+
+def used_names(roots: Iterable[str], definitions: Iterable[Definition]) -> set[str]:
+    """``roots`` and every name their definitions reach (through every definition of a
+    name: which one is in force depends on where it is used)."""
+    bodies: dict[str, list[n.Node]] = {}
+    for definition in definitions:
+        bodies.setdefault(definition.name, []).append(definition.body)
+    seen: set[str] = set()
+    stack = list(roots)
+    while stack:
+        name = stack.pop()
+        if name in seen:
+            continue
+        seen.add(name)
+        for body in bodies.get(name, ()):
+            stack.extend(names_in(body))
+    return seen
+
+
+#: Node kinds a plain number is written with (``0``, ``-1``, ``\tfrac12``, ``2\pi``).
+_NUMBER_NODES = (n.Number, n.Constant, n.Neg, n.Add, n.Mul, n.Div, n.Pow)
+
+
+def is_number(node: n.Node) -> bool:
+    """Whether a tree is a plain number: no symbol, function or tensor in it."""
+    return all(isinstance(item, _NUMBER_NODES) for item in node.walk())
+
+
+def inline_values(definitions: Iterable[Definition], used: set[str]) -> list[Definition]:
+    """Inline definitions of a bare symbol by a number (``($a = 0$)`` in prose) that a
+    display step uses: SPEC §4 makes the value hold for the whole file, which silently
+    changes the steps that use the symbol — worth a note.  The first of each name, in
+    document order."""
+    found: dict[str, Definition] = {}
+    for definition in sorted(definitions, key=lambda d: (d.order, d.span.start)):
+        if definition.display or definition.params or definition.name not in used:
+            continue
+        if is_number(definition.body):
+            found.setdefault(definition.name, definition)
+    return list(found.values())
+
+
+def inline_value_note(definition: Definition) -> str:
+    """``a is set to 0 by this inline math …`` for an :func:`inline_values` entry."""
+    name = definition.name
+    value = " ".join(definition.source.slice(definition.body.span).split())
+    return f"{name} is set to {value} by this inline math; steps that use {name} take this value"
+
+
 def defines_by_relation(kind: RelationKind, form: Form | None) -> bool:
     """Whether a relation makes its step a definition whatever its place in the chain."""
     if form is None:

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import logging
 from dataclasses import dataclass, field
-from typing import Hashable, Iterable, Mapping, Sequence
+from typing import Collection, Hashable, Iterable, Mapping, Sequence
 
 from ..checks import messages as m
 from ..checks._env import Entry, Origin, ShapeEnv
@@ -72,8 +72,13 @@ def infer_shapes(
     assumptions: Sequence[Assumption],
     dimensions: frozenset[str],
     sizes: Mapping[str, int],
+    noted: Collection[str] | None = None,
 ) -> Inference:
-    """Infer every symbol's shape and report each display step's shape errors."""
+    """Infer every symbol's shape and report each display step's shape errors.
+
+    :param noted: the names whose ambiguous shape is worth a note (those a checked step
+        uses); None for every name.
+    """
     env = ShapeEnv(dimensions, dict(sizes))
     notes = _declare(env, declarations)
     for assumption in assumptions:
@@ -88,10 +93,10 @@ def infer_shapes(
     # Inputs become scalars first; a defined symbol then takes its body's shape
     # (k = c\begin{bmatrix}…\end{bmatrix} is a matrix once c is a scalar).
     defined = frozenset(u.defines for u in units if u.defines is not None)
-    notes.extend(_default_shapes(env, scalars=True, skip=defined))
+    notes.extend(_default_shapes(env, scalars=True, skip=defined, noted=noted))
     _settle(env, settled)
     _settle(env, units)
-    notes.extend(_default_shapes(env, scalars=True))
+    notes.extend(_default_shapes(env, scalars=True, noted=noted))
     findings: dict[Hashable, tuple[Diagnostic, ...]] = {}
     for unit in units:
         checker = StepShapes(env, unit.source, unit.options, report=unit.report)
@@ -154,10 +159,15 @@ def _signed(assumptions: Iterable[Assumption]) -> dict[str, Assumption]:
 
 
 def _default_shapes(
-    env: ShapeEnv, scalars: bool, signed: Mapping[str, Assumption] | None = None, skip: frozenset[str] = frozenset()
+    env: ShapeEnv,
+    scalars: bool,
+    signed: Mapping[str, Assumption] | None = None,
+    skip: frozenset[str] = frozenset(),
+    noted: Collection[str] | None = None,
 ) -> list[Note]:
     """Give the still unknown symbols a shape: first the bold and square ones, then (with
-    ``scalars``) everything else a scalar, noting those whose shape mattered.  A plain
+    ``scalars``) everything else a scalar, noting those whose shape mattered (of the
+    ``noted`` names, when given: a symbol only unchecked math mentions needs no note).  A plain
     (not bold) symbol stated positive (``b > 0``) is a scalar by that statement, without a
     note: a weight written so is a number (common practice)."""
     notes: list[Note] = []
@@ -172,7 +182,7 @@ def _default_shapes(
         elif entry.used or not entry.scalar_set:
             how = "ambiguous" if entry.ambiguous else "scalar"
             env.bind(entry, (), Origin(entry.first.source, entry.first.span, how))
-            if entry.ambiguous:
+            if entry.ambiguous and (noted is None or entry.name in noted):
                 message = f"shape of {entry.name} is ambiguous; taken as a scalar"
                 notes.append(Note(entry.first.source, entry.first.span, message))
     return notes
