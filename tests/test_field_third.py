@@ -52,10 +52,6 @@ _ONES_OUTER = (
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "press-die-plasticity.tex:96:10": (
-        "\\mathrm{d}W = sigma_ij \\mathrm{d}epsilon_ij: the differential d is read as a scalar symbol "
-        "d times W, and the step 'fails' instead of being refused"
-    ),
     "bakery-demand-fisher.tex:79:44": (
         "\\log|C| of a square matrix is read as the elementwise log of elementwise absolute values "
         "(an n x n matrix), giving a shape-error instead of log det C or a refusal"

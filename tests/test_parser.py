@@ -324,6 +324,8 @@ def _refusals() -> list[tuple[str, str, str]]:
         ("divergence", r"\nabla \cdot \mathbf{v}", "divergence"),
         ("curl", r"\nabla \times \mathbf{v}", "curl"),
         ("prime notation", r"\sigma'(z)", "prime notation"),
+        ("prime notation on an operator name", r"\operatorname{quit}'(x)", "prime notation"),
+        ("differential", r"\mathrm{d}W", "differential"),
         ("evaluation bar", r"\left. f \right|_{x=0}", "evaluation bar"),
     ]
     return cases

@@ -128,3 +128,92 @@ $\mathbf{w}^{(t)} \in \mathbb{R}^{d}$, step $\eta > 0$.
 """
     report = stepcheck.check_text(doc, "tex")
     assert [s.verdict.value for s in report.steps()] == ["defines", "holds", "shape-error", "holds"]
+
+
+# =========================================================================== third field trial
+
+# --------------------------------------------------------------------------- item D
+
+#: A hangar-door counterweight note: the expansion goes on after a side remark on its first row.
+REMARK_ROWS = (
+    "\\begin{align}\n"
+    " (a+b)^2 &= a^2 + 2ab + b^2 \\quad\\text{since } ab = ba \\\\\n"
+    " &= b^2 + {middle} + a^2\n"
+    "\\end{align}\n"
+)
+
+
+def test_the_binomial_square_holds_in_numpy() -> None:
+    """The outside reference: (a+b)^2 = a^2 + 2ab + b^2 (textbook algebra) at a few points."""
+    a, b = np.meshgrid(np.linspace(-2.0, 2.0, 5), np.linspace(-3.0, 1.0, 5))
+    assert np.allclose((a + b) ** 2, b**2 + 2 * a * b + a**2)
+    assert not np.allclose((a + b) ** 2, b**2 + a * b + a**2)
+
+
+@pytest.mark.parametrize(("middle", "last"), [("2ab", "holds"), ("ab", "fails")], ids=["right", "planted-lost-two"])
+def test_the_row_after_a_side_remark_continues_the_main_chain(middle: str, last: str) -> None:
+    # third report item D: the third step was read as `ba = b^2 + 2ab + a^2` and failed
+    got = _verdicts(REMARK_ROWS.replace("{middle}", middle))
+    assert got == [("2:13", "holds"), ("2:53", "holds"), ("3:5", last)]
+
+
+# --------------------------------------------------------------------------- item E
+
+#: A ferry-fare memo: a value function defined on one gather row, its gradient on the next.
+FARE = (
+    "Let $\\mathbf{{p}}\\in\\mathbb{{R}}^{{n}}$.\n"
+    "\\begin{{gather}}\n"
+    "  v(\\mathbf{{p}}) = c - \\mathbf{{1}}^\\top\\mathbf{{p}}{end} \\\\\n"
+    "  -\\nabla_{{\\mathbf{{p}}}} v = {rhs}\n"
+    "\\end{{gather}}\n"
+)
+
+
+def test_the_gradient_of_a_linear_fare_by_central_differences() -> None:
+    """The outside reference: the gradient of c - 1^T p is -1 (Matrix Cookbook eq. 69,
+    d(a^T x)/dx = a, recalled from memory), checked by central finite differences."""
+    p, h = np.array([0.4, -1.3, 2.0]), 1e-6
+    v = lambda q: 1.5 - q.sum()  # noqa: E731
+    grad = np.array([(v(p + h * e) - v(p - h * e)) / (2 * h) for e in np.eye(3)])
+    assert np.allclose(-grad, np.ones(3))
+
+
+@pytest.mark.parametrize("end", [",", ";", "."], ids=["comma", "semicolon", "period"])
+@pytest.mark.parametrize(("rhs", "second"), [("\\mathbf{1}", "holds"), ("-\\mathbf{1}", "fails")], ids=["right", "planted-sign"])
+def test_a_punctuated_row_is_not_glued_to_a_minus_led_row(end: str, rhs: str, second: str) -> None:
+    # third report item E: the rows were one sum, `, \\` included, and both steps a shape-error
+    report = stepcheck.check_text(FARE.format(end=end, rhs=rhs), kind="tex", cache=False).to_dict()
+    steps = [s for f in report["files"] for s in f["steps"]]
+    assert [(f"{s['line']}:{s['column']}", s["verdict"]) for s in steps] == [("3:19", "defines"), ("4:28", second)]
+    assert steps[0]["rhs"] == "c - \\mathbf{1}^\\top\\mathbf{p}"
+    assert all("\\\\" not in s["message"] and "\\\\" not in s["lhs"] + s["rhs"] for s in steps)
+
+
+# --------------------------------------------------------------------------- item F
+
+#: A press-platen note: a strain-energy differential, then the same letter d as a dimension.
+PLATEN = (
+    "Let $A, B \\in \\mathbb{R}^{3\\times 3}$ and $X \\in \\mathbb{R}^{n \\times d}$.\n"
+    "\\[ \\mathrm{d}W = A_{ij}\\,\\mathrm{d}B_{ij} \\]\n"
+    "\\[ \\tfrac{1}{2}\\,d x = \\tfrac{d}{{den}} x \\]\n"
+)
+
+
+@pytest.mark.parametrize(("den", "last"), [("2", "holds"), ("3", "fails")], ids=["right", "planted-half"])
+def test_a_differential_form_is_refused_and_a_dimension_d_still_counts(den: str, last: str) -> None:
+    # third report item F: `\mathrm{d}W` was the scalar d times W, and the step failed
+    report = stepcheck.check_text(PLATEN.replace("{den}", den), kind="tex", cache=False).to_dict()
+    steps = [s for f in report["files"] for s in f["steps"]]
+    assert [(f"{s['line']}:{s['column']}", s["verdict"]) for s in steps] == [("2:18", "unsupported"), ("3:24", last)]
+    assert "a differential ('\\mathrm{d}W' at column 4) is not checked" in steps[0]["message"]
+
+
+# --------------------------------------------------------------------------- prime on a function
+
+def test_prime_notation_on_an_operator_name_is_refused_like_f_prime() -> None:
+    # robustness report: `\operatorname{quit}'(x)` was "the function quit … needs an argument"
+    text = "\\[ \\operatorname{quit}'(x) = 1 - x \\]\n\\[ f'(x) = 1 - x \\]\n"
+    report = stepcheck.check_text(text, kind="tex", cache=False).to_dict()
+    steps = [s for f in report["files"] for s in f["steps"]]
+    assert [s["verdict"] for s in steps] == ["unsupported", "unsupported"]
+    assert all("a derivative in prime notation is not checked" in s["message"] for s in steps)

@@ -9,6 +9,7 @@ Grammar::
     sum        := (\\sum | \\prod) '_' bindings ['^' argument] rest
     root       := \\sqrt ['[' expression ']'] argument
     rest       := term           (the rest of the product term: rules ``sum-reach``, ``derivative-reach``)
+    differential := \\mathrm{d} operand | spacing d symbol     (a differential form: refused, rule ``differential-d``)
 """
 
 from __future__ import annotations
@@ -20,7 +21,10 @@ from ..source import Span
 from . import nodes as n
 from ._symbols import Base, Script, Scripts, _split_commas
 from .tokens import Token, TokenKind
-from .vocabulary import BIG_OPERATORS, COORDINATE_INDEX_LETTERS, COORDINATE_NAME, GREEK, PLAIN_FONTS, TEXT_FONTS
+from .errors import UnsupportedConstruct
+from .vocabulary import (
+    BIG_OPERATORS, COORDINATE_INDEX_LETTERS, COORDINATE_NAME, GREEK, PLAIN_FONTS, TEXT_FONTS, UPRIGHT_FONTS,
+)
 
 if TYPE_CHECKING:
     from ..context.model import Vocabulary
@@ -36,6 +40,7 @@ class CalculusReading:
     vocab: Vocabulary
     expression: Callable[[], n.Node]
     term: Callable[[], n.Node]
+    factor: Callable[[], n.Node]
     enter: Callable[[Token | None], None]
     leave: Callable[[], None]
     note: Callable[[str, Span, str], None]
@@ -217,6 +222,36 @@ class CalculusReading:
             return self.term()
         finally:
             self.leave()
+
+    # ----------------------------------------------------------------- differentials
+
+    def is_differential(self, base: Base, start: int) -> bool:
+        """Whether the base just read (tokens from ``start``) is the d of a differential form
+        (rule ``differential-d``): an upright ``\\mathrm{d}`` before an operand, or a plain ``d``
+        written after a spacing command and right before a symbol (``f(x)\\,dx``) that the
+        document does not use as a dimension, a tensor or a function."""
+        nxt = self.s.peek()
+        if base.name != "d" or base.bold or nxt is None or nxt.kind is TokenKind.NUMBER:
+            return False
+        first = self.s.tokens[start]
+        if first.kind is TokenKind.COMMAND:
+            return first.text in UPRIGHT_FONTS and self.starts_factor(nxt, operand=True)
+        taken = self.vocab.dimensions | self.vocab.tensors | self.vocab.functions
+        return (
+            self.s.spaced[start] and not self.s.spaced[self.s.pos] and self.starts_symbol(nxt) and "d" not in taken
+        )
+
+    def refuse_differential(self, start: int) -> UnsupportedConstruct:
+        """The refusal of a differential form whose d starts at token ``start``; the cursor
+        stands after the d."""
+        d_span = self.s.span_from(start)
+        operand = self.attempt(self.factor)
+        span = d_span if operand is None else d_span.join(operand.span)
+        return self.s.refuse(
+            f"a differential ('{self.s.text_of(span)}' at {self.s.where(span)}) is not checked: "
+            "write the derivative out (\\frac{\\mathrm{d}f}{\\mathrm{d}x})",
+            span,
+        )
 
     # ----------------------------------------------------------------- operators
 

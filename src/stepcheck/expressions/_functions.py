@@ -19,7 +19,7 @@ from typing import TYPE_CHECKING, Callable
 from ..source import Span
 from . import nodes as n
 from ._symbols import Base, Scripts
-from .errors import ParseError
+from .errors import ParseError, UnsupportedConstruct
 from .nodes import Node
 from .tokens import Token, TokenKind
 from .vocabulary import DUAL_FUNCTION_COMMANDS, FUNCTION_COMMANDS, FUSED_FUNCTIONS, OPERATOR_NAMES, UNSUPPORTED_OPERATORS
@@ -48,6 +48,8 @@ class FunctionReading:
     starts_factor: Callable[..., bool]
     starts_symbol: Callable[[Token], bool]
     _close: Callable[[Token, str, str], None]
+    is_differential: Callable[[Base, int], bool]
+    refuse_differential: Callable[[int], UnsupportedConstruct]
 
     def _paren_end(self) -> Span:
         """The span of the ')' matching the '(' at the cursor (or of the '(' itself)."""
@@ -109,6 +111,10 @@ class FunctionReading:
         if not toks or not all(t.kind in (TokenKind.LETTER, TokenKind.NUMBER) or t.is_symbol("-") for t in toks):
             span = self.s.span_from(start)
             raise self.s.error(f"the operator name at {self.s.where(span)} must be letters", span)
+        if name == "d" and name not in self.vocab.functions:
+            base = Base(name, False, self.s.span_from(start), "word")
+            if self.is_differential(base, start):
+                raise self.refuse_differential(start)
         if name in UNSUPPORTED_OPERATORS and name not in self.vocab.functions:
             span = self.s.span_from(start)
             raise self.s.refuse(f"{UNSUPPORTED_OPERATORS[name]} at {self.s.where(span)} is not checked", span)
@@ -132,6 +138,10 @@ class FunctionReading:
             self.s.advance()
             func = FUSED_FUNCTIONS[(func, FUNCTION_COMMANDS[tok.text])]
         name_span = self.s.span_from(start)
+        if (tok := self.s.peek()) is not None and tok.is_symbol("'"):
+            while (tok := self.s.peek()) is not None and tok.is_symbol("'"):
+                self.s.advance()
+            raise self._refuse_prime(self.s.span_from(start))
         power = self._function_power(name_span)
         if self.at_paren():
             args = self.argument_list()
@@ -150,6 +160,21 @@ class FunctionReading:
             node = n.Pow(node, power, node.span)
         return node
 
+    def _refuse_prime(self, marked: Span) -> UnsupportedConstruct:
+        """``\\tanh'(z)``, ``\\operatorname{relu}^{\\prime}(x)``: prime notation on a function (its
+        name and primes: ``marked``; the cursor after them) is a derivative, refused like ``f'(x)``.
+        The span runs on to the argument."""
+        span = marked
+        if self.at_paren():
+            span = span.join(self._paren_end())
+        elif (argument := self.attempt(self.factor)) is not None:
+            span = span.join(argument.span)
+        return self.s.refuse(
+            f"'{self.s.text_of(span)}' at {self.s.where(span)}: a derivative in prime notation is not checked; "
+            "write the derivative out or name it",
+            span,
+        )
+
     def _function_power(self, name_span: Span) -> Node | None:
         tok = self.s.peek()
         if tok is not None and tok.kind is TokenKind.SUB:
@@ -163,6 +188,8 @@ class FunctionReading:
             raise self.s.error(f"only a power may be written on the function at {self.s.where(name_span)}", name_span)
         item = scripts.items[0]
         kind, _ = self.sup_kind(item)
+        if kind in ("prime", "prime2"):
+            raise self._refuse_prime(name_span.join(item.span))
         if kind != "power":
             raise self.s.error(f"the superscript on the function at {self.s.where(item.span)} must be a power", item.span)
         return self.exponent(item)

@@ -14,7 +14,7 @@ from ..source import SourceText, Span
 from .errors import ParseError, UnsupportedConstruct
 from .tokens import Token, TokenKind
 from .vocabulary import (
-    ACCENTS, BOLD_FONTS, DROPPED, FRACTIONS, NAMED_FONTS, NOT_READ_SYMBOLS, PLAIN_FONTS, SIZING, UNSUPPORTED,
+    ACCENTS, BOLD_FONTS, DROPPED, FRACTIONS, NAMED_FONTS, NOT_READ_SYMBOLS, PLAIN_FONTS, SIZING, SPACING, UNSUPPORTED,
     UNSUPPORTED_SYMBOLS,
 )
 
@@ -44,11 +44,14 @@ class Stream:
         self.source = source
         self.tokens: list[Token] = []
         self.roles: list[str | None] = []
+        self.spaced: list[bool] = []
+        """Per token: a spacing command (``\\,`` ``\\;`` …) stood right before it (``f(x)\\,dx``)."""
+        self._spacing = False
         self.pos = 0
         self.limit = 0
         """Tokens at or past this index are out of reach (the end of a bounded region)."""
         self._prepare(tokens)
-        self.cuts: list[Span] = _split_arguments(self.tokens, self.roles)
+        self.cuts: list[Span] = _split_arguments(self.tokens, self.roles, self.spaced)
         """Multi-digit numbers cut because TeX takes one digit as an argument."""
         self.cut_heads = {tok.span for tok in self.tokens if tok.kind is TokenKind.NUMBER and len(tok.text) == 1 and any(
             tok.span.start == cut.start and tok.span.end < cut.end for cut in self.cuts)}
@@ -64,6 +67,7 @@ class Stream:
         while i < n:
             tok = tokens[i]
             if tok.kind is TokenKind.COMMENT or (tok.kind is TokenKind.COMMAND and tok.text in DROPPED):
+                self._spacing = self._spacing or tok.text in SPACING
                 i += 1
             elif tok.is_command(*_DROPPED_WITH_TEXT):
                 i += 2 if i + 1 < n and tokens[i + 1].kind is TokenKind.TEXT else 1
@@ -78,8 +82,7 @@ class Stream:
                         "(write digits 0-9, and powers with ^)",
                         tok.span,
                     )
-                self.tokens.append(tok)
-                self.roles.append(None)
+                self._keep(tok, None)
                 i += 1
 
     def _sized(self, tokens: Sequence[Token], i: int) -> int:
@@ -106,9 +109,14 @@ class Stream:
                 delim.span,
             )
         joined = Token(delim.kind, delim.text, sizing.span.join(delim.span), sizing.space_before)
-        self.tokens.append(joined)
-        self.roles.append(None if role == "any" else role)
+        self._keep(joined, None if role == "any" else role)
         return j + 1
+
+    def _keep(self, tok: Token, role: str | None) -> None:
+        self.tokens.append(tok)
+        self.roles.append(role)
+        self.spaced.append(self._spacing)
+        self._spacing = False
 
     # ----------------------------------------------------------------- cursor
 
@@ -245,7 +253,7 @@ _ARGUMENT_COUNTS: dict[str, int] = {
 }
 
 
-def _split_arguments(tokens: list[Token], roles: list[str | None]) -> list[Span]:
+def _split_arguments(tokens: list[Token], roles: list[str | None], spaced: list[bool]) -> list[Span]:
     """Cut multi-digit numbers that stand as single-token arguments (rule ``tex-argument``).
 
     TeX takes one character as an unbraced argument: ``x^12`` is ``x^1 2`` and
@@ -277,6 +285,7 @@ def _split_arguments(tokens: list[Token], roles: list[str | None]) -> list[Span]
                 pieces = _cut_number(tokens[j])
                 tokens[j : j + 1] = pieces
                 roles[j : j + 1] = [None] * len(pieces)
+                spaced[j : j + 1] = [spaced[j]] + [False] * (len(pieces) - 1)
             j += 1
         i += 1
     return cuts

@@ -456,6 +456,8 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
             return self.function_call(base.func, base.user, start)
         if isinstance(base, Node):
             return self.scripts_on(base, start)
+        if self.is_differential(base, start):
+            raise self.refuse_differential(start)
         return self.after_base(base, start)
 
     def after_base(self, base: Base, start: int) -> Node:

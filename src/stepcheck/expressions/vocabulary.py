@@ -87,7 +87,12 @@ AMBIGUITY_RULES: dict[str, str] = {
         "operator derivatives (\\frac{\\partial}{\\partial x}, \\frac{d}{dt}, \\partial_x, \\nabla_w) "
         "reach to the end of their product term"
     ),
-    "differential-d": "d is a differential only in \\frac{d..}{d..} with both parts starting with d",
+    "differential-d": (
+        "d is the differential of a derivative in \\frac{d..}{d..} with both parts starting with d; "
+        "outside it, an upright d before an operand (\\mathrm{d}W, \\mathrm{d}\\mathbf{x}) or a plain "
+        "d written after a spacing command right before a symbol (f(x)\\,dx) is a differential form, "
+        "which is not checked; any other d is a symbol (d_i, \\frac{1}{d}, x^d, a dimension d)"
+    ),
     "partial-coordinate": (
         "\\partial_i with an index letter among i..s (or a declared index) is the derivative by "
         "the coordinate x_i; any other subscript names the variable (\\partial_t, \\partial_x)"
@@ -149,6 +154,10 @@ NAMED_FONTS = frozenset({"\\mathcal", "\\mathbb", "\\mathscr", "\\mathfrak", "\\
 #: Upright or other fonts that do not change a single letter's name (``\\mathrm{d}`` is d);
 #: a multi-letter argument is a word (``\\mathrm{MSE}``).
 PLAIN_FONTS = frozenset({"\\mathrm", "\\mathit", "\\mathsf", "\\mathtt", "\\mathnormal", "\\rm"})
+
+#: Fonts that set a letter upright: ``\\mathrm{d}`` before an operand is a differential (rule
+#: ``differential-d``), while an italic ``\\mathit{d}`` is the letter d.
+UPRIGHT_FONTS = frozenset({"\\mathrm", "\\rm", "\\text", "\\textrm", "\\textnormal", "\\mbox", "\\operatorname"})
 
 #: Text commands whose argument (one TEXT token) is a word.
 TEXT_FONTS = frozenset({"\\text", "\\textrm", "\\textit", "\\textsf", "\\texttt", "\\textnormal", "\\mbox", "\\textbf"})
@@ -363,6 +372,10 @@ DROPPED = frozenset(
         "\\lefteqn", "\\mathrlap", "\\mathllap", "\\mathclap",
     }
 )
+
+#: Positive spacing commands among :data:`DROPPED`: a plain ``d`` written after one of them and
+#: right before a symbol is a differential (``f(x)\\,dx``; rule ``differential-d``).
+SPACING = frozenset({"\\,", "\\;", "\\:", "\\ ", "\\>", "\\thinspace", "\\medspace", "\\thickspace", "\\enspace"})
 
 #: Sizing commands → the delimiter role they give the next token.
 SIZING: dict[str, str] = {
