@@ -48,6 +48,7 @@ class FunctionReading:
     starts_factor: Callable[..., bool]
     starts_symbol: Callable[[Token], bool]
     _close: Callable[[Token, str, str], None]
+    attempt: Callable[[Callable[[], Node]], Node | None]
     is_differential: Callable[[Base, int], bool]
     refuse_differential: Callable[[int], UnsupportedConstruct]
 
