@@ -586,3 +586,97 @@ def test_the_compiled_code_printer_refuses_a_symbol_that_is_not_drawn():
     assert printer.doprint(sympy.exp(drawn) + 1) in ("exp(_arg0) + 1", "1 + exp(_arg0)")
     with pytest.raises(Unsupported):
         printer.doprint(drawn * foreign)
+
+
+# --------------------------------------------------------------------------- round-4 readings and limits
+
+
+DET_BARS = [
+    # |C| = det C for a square C (common practice in statistics: log|Σ| in a Gaussian likelihood)
+    pytest.param(r"\log|C|", r"\log\det C", {"C": ("n", "n")}, {"C": ["spd"]}, Verdict.HOLDS, id="log-det"),
+    pytest.param(r"|A B|", r"|A|\,|B|", {"A": ("n", "n"), "B": ("n", "n")}, {}, Verdict.HOLDS, id="product-rule"),
+    pytest.param(r"|2C|", r"2^{n}|C|", {"C": ("n", "n")}, {}, Verdict.HOLDS, id="scaling"),
+    pytest.param(r"|2C|", r"2|C|", {"C": ("n", "n")}, {}, Verdict.FAILS, id="scaling-wrong"),
+    pytest.param(r"|A B|", r"|A| + |B|", {"A": ("n", "n"), "B": ("n", "n")}, {}, Verdict.FAILS, id="sum-wrong"),
+]
+
+
+@pytest.mark.parametrize("lhs, rhs, shapes, assumptions, verdict", DET_BARS)
+def test_bars_around_a_square_matrix_are_its_determinant(lhs, rhs, shapes, assumptions, verdict):
+    outcome = decide_latex(lhs, rhs, shapes=shapes, assumptions=assumptions)
+    assert outcome.verdict is verdict, outcome.message
+    assert "note: |X| of a square matrix X is read as its determinant det X" in outcome.message
+
+
+def test_bars_agree_with_numpy_det_and_stay_elementwise_on_vectors_and_non_square_matrices():
+    # numpy.linalg.det for the square matrix, numpy.abs elementwise for the others
+    C = [[2, 1], [7, 3]]
+    assert float(value_latex("|C|", {"n": 2}, {"C": C}, shapes={"C": ("n", "n")}).scalar()) == pytest.approx(np.linalg.det(C))
+    x = [-2, 3, Fraction(-1, 2)]
+    got = value_latex(r"|\mathbf{x}|", {"n": 3}, {"x": x}, shapes={"x": ("n",)})
+    assert np.allclose(as_float_array(got).ravel(), np.abs(np.array(x, dtype=float)))
+    X = [[-1, 2, -3], [4, -5, 6]]
+    got = value_latex("|X|", {"n": 2, "d": 3}, {"X": X}, shapes={"X": ("n", "d")})
+    assert np.allclose(as_float_array(got), np.abs(X))
+    wrong = decide_latex(r"|\mathbf{x}|", r"\mathbf{x}", shapes={"x": ("n",)})
+    assert wrong.verdict is Verdict.FAILS and "determinant" not in wrong.message
+
+
+def test_bars_read_at_distinct_sizes_even_when_a_hint_makes_sizes_equal():
+    # X is n×d: at n = d it is square, but |X| is still elementwise there (no determinant)
+    outcome = decide_latex("|X|", "X", shapes={"X": ("n", "d")})
+    assert outcome.verdict is Verdict.FAILS and "determinant" not in outcome.message
+
+
+def test_e_to_a_square_matrix_is_a_matrix_exponential_and_unsupported():
+    # a belt drive's state transition e^{At}: a matrix exponential, whose derivative is
+    # A e^{At} (textbook); read elementwise it would "fail" — refused instead
+    outcome = decide_latex(r"\frac{\mathrm{d}}{\mathrm{d}t} e^{A t}", r"A e^{A t}", shapes={"A": ("n", "n")})
+    assert outcome.verdict is Verdict.UNSUPPORTED
+    assert outcome.message.startswith("the matrix exponential e^{…} of a square matrix is not checked")
+
+
+@pytest.mark.parametrize("lhs, rhs, shapes", [
+    pytest.param(r"\exp(A)", r"e^{\mathbf{0}} \odot \exp(A)", {"A": ("n", "n")}, id="exp-is-elementwise"),
+    pytest.param(r"e^{\mathbf{z}} \odot e^{-\mathbf{z}}", r"\mathbf{1}", {"z": ("k",)}, id="vector-exponent"),
+    pytest.param(r"e^{X} \odot e^{X}", r"e^{2X}", {"X": ("n", "d")}, id="non-square-exponent"),
+])
+def test_exp_and_e_of_vectors_and_non_square_matrices_stay_elementwise(lhs, rhs, shapes):
+    assert decide_latex(lhs, rhs, shapes=shapes).verdict is Verdict.HOLDS
+
+
+def test_the_redraw_budget_grows_with_the_draws():
+    # log(p - q) is defined on half the draws: at 60 trials more than 40 draws fall outside
+    # its domain, which the budget must allow for (robustness report, item 8)
+    from stepcheck.evaluation.deciding import MAX_REDRAWS, redraw_budget
+
+    outcome = decide_latex(r"f(\log(p - q))", r"f(\log(p - q))", functions=["f"], trials=60)
+    assert outcome.verdict is Verdict.HOLDS and "on 120 random draws" in outcome.message
+    assert redraw_budget(1) == MAX_REDRAWS
+    assert all(redraw_budget(n + 1) >= redraw_budget(n) for n in range(1, 2000))
+    assert redraw_budget(1000) >= 10 * 1000
+
+
+def test_an_evaluator_bug_is_marked_so_it_is_never_cached(monkeypatch):
+    # GIVEN a bug inside the evaluator, WHEN a step is decided leniently, THEN it is
+    # unsupported with no method and the stable message that marks an internal error
+    from stepcheck import evaluation
+    from stepcheck.evaluation import deciding
+    from stepcheck.expressions.parser import parse_latex
+
+    honest = decide_latex(r"\mathbf{1}^\top\mathbf{1}", "n", dimensions=["n"])
+    assert honest.verdict is Verdict.UNSUPPORTED and not evaluation.is_internal_error(honest)
+
+    def crash(self):
+        raise RuntimeError("simulated bug")
+
+    monkeypatch.setattr(deciding.Decider, "run", crash)
+    ctx = make_context()
+    a, b = parse_latex("a", ctx.vocabulary), parse_latex("b", ctx.vocabulary)
+    outcome = evaluation.decide(a, b, RelationKind.EQUAL, ctx, Settings())
+    assert outcome.verdict is Verdict.UNSUPPORTED and outcome.method is None
+    assert outcome.message == "the evaluator could not decide this step (RuntimeError: simulated bug)"
+    assert evaluation.is_internal_error(outcome)
+    monkeypatch.setattr(evaluation, "RAISE_INTERNAL_ERRORS", True)
+    with pytest.raises(RuntimeError):
+        evaluation.decide(a, b, RelationKind.EQUAL, ctx, Settings())

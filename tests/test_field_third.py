@@ -45,23 +45,9 @@ VERDICTS = {
 }
 DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
-_ONES_OUTER = (
-    "\\mathbf{1}\\mathbf{1}^\\top beside I and a d-vector is refused as 'a product of ones vectors "
-    "of unknown size' (SPEC par. 7: ones vectors are sized by their context)"
-)
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-KNOWN: dict[str, str] = {
-    "bakery-demand-fisher.tex:79:44": (
-        "\\log|C| of a square matrix is read as the elementwise log of elementwise absolute values "
-        "(an n x n matrix), giving a shape-error instead of log det C or a refusal"
-    ),
-    "parcel-tagger-layernorm.md:20:15": _ONES_OUTER,
-    "parcel-tagger-layernorm.md:32:5": _ONES_OUTER,
-    "parcel-tagger-layernorm.md:33:5": _ONES_OUTER,
-    "parcel-tagger-layernorm.md:40:4": _ONES_OUTER,
-    "parcel-tagger-layernorm.md:46:55": _ONES_OUTER,
-}
+KNOWN: dict[str, str] = {}
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
 KNOWN_EXTRA: dict[str, str] = {}

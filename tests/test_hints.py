@@ -41,7 +41,7 @@ HINTS = [
                  id="factor-half"),
     pytest.param(r"\mathbf{x}^\top A \mathbf{y}", r"\mathbf{y}^\top A \mathbf{x}", {"shapes": SQUARE},
                  "holds if A is symmetric (A is not assumed symmetric: write A = A^\\top if it is)", id="symmetric"),
-    pytest.param(r"\operatorname{tr}(A)", r"\det A", {"shapes": SQUARE}, "holds only when n = 1", id="size-one"),
+    pytest.param(r"\operatorname{tr}(A)", r"\det A", {"shapes": SQUARE}, "holds when n = 1 but not at the sizes tried", id="size-one"),
     pytest.param(r"A_{ij} x_j", r"A_{ji} x_j", {"shapes": SQUARE},
                  "holds if the indices of A are swapped on the right side", id="swapped-indices"),
     pytest.param(r"T_{ijk} x_k", r"T_{ikj} x_k", {"shapes": {"T": ("n", "n", "n"), "x": ("n",)}},
@@ -154,13 +154,13 @@ def test_float_counterexample_values_are_numbers():
 
 def test_size_one_hint_through_a_definition_with_an_identity():
     # GIVEN a soil-moisture prior K = aC + bI (at n = 1 every matrix is a scalar), WHEN the
-    # trace of a product is split into a product of traces, THEN the hint says it holds only
-    # at n = 1 (tr(AB) = tr(A)tr(B) for 1×1 matrices; common practice).
+    # trace of a product is split into a product of traces, THEN the hint says it holds at
+    # n = 1 but not at the sizes tried (tr(AB) = tr(A)tr(B) for 1×1 matrices; common practice).
     outcome = decide_latex(r"\operatorname{tr}(K^{-1} C)", r"\operatorname{tr}(K^{-1})\operatorname{tr}(C)",
                            shapes={"C": ("n", "n"), "K": ("n", "n")}, assumptions={"C": {"spd"}, "a": {"positive"}, "b": {"positive"}},
                            definitions={"K": r"a C + b I"})
     assert outcome.verdict is Verdict.FAILS
-    assert outcome.hint == "holds only when n = 1"
+    assert outcome.hint == "holds when n = 1 but not at the sizes tried"
 
 
 KALMAN = {
@@ -232,3 +232,124 @@ def test_counterexample_sides_never_print_the_same():
 
     with mpmath.workdps(40):
         assert abs(mpmath.mpf(cx["lhs"]) - (1 + mpmath.exp(-30 - mpmath.mpf(t.numerator) ** 2 / t.denominator**2))) < 1e-20
+
+
+# --------------------------------------------------------------------------- hints that claim no more than was tried
+
+HYDROPHONE = {"F": ("p", "p"), "G": ("q", "q")}
+
+
+def test_kronecker_inverse_names_every_size_one_that_works():
+    # (F⊗G)⁻¹ = F⁻¹⊗G⁻¹ (The Matrix Cookbook, Kronecker section; number not recalled).
+    # Written with the factors swapped, it still holds when either block is 1×1, so the hint
+    # names both and does not say "only".
+    outcome = decide_latex(r"(F \otimes G)^{-1}", r"G^{-1} \otimes F^{-1}", shapes=HYDROPHONE)
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == "holds when p = 1 or when q = 1 but not at the sizes tried"
+    F, G = np.array([[2.0, 1.0], [0.0, 3.0]]), np.array([[1.0, 0.0], [4.0, 5.0]])
+    assert np.allclose(np.linalg.inv(np.kron(F, G)), np.kron(np.linalg.inv(F), np.linalg.inv(G)))
+    assert not np.allclose(np.linalg.inv(np.kron(F, G)), np.kron(np.linalg.inv(G), np.linalg.inv(F)))
+
+
+def test_exponents_swapped_get_the_equal_sizes_hint():
+    # det(F⊗G) = det(F)^q det(G)^p for F p×p and G q×q (The Matrix Cookbook, Kronecker
+    # section; number not recalled; numpy below). Written with p and q swapped it holds
+    # whenever p = q, which says more than "every size is 1".
+    outcome = decide_latex(r"\det(F \otimes G)", r"(\det F)^{p}(\det G)^{q}", shapes=HYDROPHONE)
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == "holds when p = q but not at the sizes tried: two sizes may be mixed up"
+    F, G = np.array([[2.0, 1.0], [0.0, 3.0]]), np.array([[2.0, 0.0, 1.0], [1.0, 1.0, 0.0], [0.0, 3.0, 1.0]])
+    assert np.isclose(np.linalg.det(np.kron(F, G)), np.linalg.det(F) ** 3 * np.linalg.det(G) ** 2)
+
+
+def test_every_size_one_is_named_and_not_overclaimed():
+    # vec(AXB) = (Bᵀ⊗A)vec(X) (The Matrix Cookbook, vec section; number not recalled):
+    # with the Kronecker factors swapped it holds when every block is 1×1 (scalars commute)
+    outcome = decide_latex(r"\operatorname{vec}(A X B)", r"(A \otimes B^\top)\operatorname{vec}(X)",
+                           shapes={"A": ("m", "n"), "X": ("n", "p"), "B": ("p", "q")})
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == "holds when every size is 1 (m = n = p = q = 1) but not at the sizes tried"
+    A, X, B = np.arange(6.0).reshape(2, 3), np.arange(12.0).reshape(3, 4) - 5, np.arange(8.0).reshape(4, 2) + 1
+    assert np.allclose((A @ X @ B).ravel(order="F"), np.kron(B.T, A) @ X.ravel(order="F"))
+
+
+SPIN_DEFINITIONS = {r"\omega_i": r"\epsilon_{ijk} G_{kj}", r"W_{ij}": r"\tfrac12(G_{ij} - G_{ji})"}
+
+
+@pytest.mark.parametrize("shape, sizes", [(("n", "n"), {"n": 3}), ((3, 3), {"i,j,k": 3})], ids=["lettered", "fixed"])
+def test_a_sign_is_named_before_a_swap_of_free_indices(shape, sizes):
+    # GIVEN a canal-lock flow's spin W = ½(G − Gᵀ) and ω_i = ε_ijk G_kj, WHEN W is written as
+    # +½ε_ijk ω_k (it is −½ε_ijk ω_k; numpy.einsum below), THEN the sides differ by −1 and
+    # also by a swap of i and j (W is skew): SPEC §9 names the factor first.
+    outcome = decide_latex(r"W_{ij}", r"\tfrac{1}{2}\epsilon_{ijk}\omega_k", shapes={"G": shape}, definitions=SPIN_DEFINITIONS)
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == "the sides differ by a sign: the left side is −1 times the right side"
+    cx = outcome.counterexample
+    assert cx["sizes"] == sizes, "each size once"
+    G = exact(cx["inputs"]["G"]).astype(float)
+    eps = np.zeros((3, 3, 3))
+    for (i, j, k), sign in {(0, 1, 2): 1, (1, 2, 0): 1, (2, 0, 1): 1, (0, 2, 1): -1, (2, 1, 0): -1, (1, 0, 2): -1}.items():
+        eps[i, j, k] = sign
+    omega = np.einsum("ijk,kj->i", eps, G)
+    assert np.allclose(0.5 * (G - G.T), -0.5 * np.einsum("ijk,k->ij", eps, omega))
+    assert np.allclose(exact(cx["lhs"]).astype(float), 0.5 * (G - G.T))
+
+
+def test_a_column_and_a_row_print_differently():
+    # the gradient of ‖Xw‖² is the row 2wᵀXᵀX in numerator layout (common practice); the
+    # column 2XᵀXw is its transpose: the counterexample shows a 1×d row beside a d×1 column
+    outcome = decide_latex(r"\frac{\partial}{\partial \mathbf{w}} \|X\mathbf{w}\|^2", r"2X^\top X \mathbf{w}",
+                           shapes={"X": ("n", "d"), "w": ("d",)})
+    assert outcome.verdict is Verdict.FAILS
+    cx = outcome.counterexample
+    d = cx["sizes"]["d"]
+    assert np.shape(cx["lhs"]) == (1, d) and np.shape(cx["rhs"]) == (d, 1)
+    X, w = exact(cx["inputs"]["X"]), exact(cx["inputs"]["w"])
+    assert np.array_equal(np.ravel(exact(cx["rhs"])), 2 * X.T.dot(X).dot(w))
+
+
+def test_fixed_sizes_are_not_called_scalar_inputs():
+    outcome = decide_latex(r"\mathbf{a}^\top\mathbf{a}", r"2\,\mathbf{a}^\top\mathbf{a}", shapes={"a": (3,)})
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.message == "the sides differ at the sizes the document fixes"
+    scalar = decide_latex(r"a^2", r"2a^2")
+    assert scalar.message == "the sides differ at scalar inputs"
+
+
+def test_up_down_indices_get_the_swap_hint():
+    # GIVEN a silo shell's tensor with home form T^i_j and a metric g, WHEN T_ij v^i w^j is
+    # written for T^i_j v^j w_i (= T_ji v^i w^j after lowering with g; numpy below), THEN the
+    # hint swaps T's indices on the right side, in the all-lower form.
+    outcome = decide_latex(r"T^{i}{}_{j}\, v^{j} w_{i}", r"T_{ij}\, v^{i} w^{j}",
+                           shapes={"T": (3, 3), "v": (3,), "w": (3,)}, up_down=True, metric="g",
+                           homes={"T": (True, False), "v": (True,), "w": (True,)})
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == "holds if the indices of T are swapped on the right side"
+    cx = outcome.counterexample
+    T, v, w, g = (exact(cx["inputs"][k]).astype(float) for k in ("T", "v", "w", "g"))
+    T_low = g @ T  # T_{ij} = g_{ia} T^a_j
+    lhs = np.einsum("ij,j,i->", T, v, g @ w)
+    assert np.isclose(lhs, float(fraction(cx["lhs"])))
+    assert np.isclose(lhs, np.einsum("ji,i,j->", T_low, v, w))
+
+
+def test_a_bug_while_explaining_keeps_the_fails_verdict(monkeypatch):
+    from stepcheck import evaluation
+    from stepcheck.evaluation import hints
+
+    def broken(*args):
+        raise RuntimeError("simulated bug in a hint")
+
+    monkeypatch.setattr(hints, "_first_hint", broken)
+    monkeypatch.setattr(evaluation, "RAISE_INTERNAL_ERRORS", False)
+    from stepcheck.context.model import StepContext  # noqa: F401  (the helper's context)
+    from decide_helpers import make_context
+    from stepcheck.expressions.parser import parse_latex
+    from stepcheck.settings import Settings
+    from stepcheck.verdicts import RelationKind
+
+    ctx = make_context({"C": ("n", "n"), "D": ("n", "n")})
+    outcome = evaluation.decide(parse_latex("C D", ctx.vocabulary), parse_latex("D C", ctx.vocabulary),
+                                RelationKind.EQUAL, ctx, Settings(trials=4))
+    assert outcome.verdict is Verdict.FAILS and outcome.hint is None
+    assert outcome.counterexample["sizes"] == {"n": 2}

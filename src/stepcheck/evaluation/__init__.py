@@ -19,6 +19,11 @@ logger = logging.getLogger(__name__)
 #: reported as ``unsupported`` (lenient for users, strict under test).
 RAISE_INTERNAL_ERRORS = False
 
+#: How the message of an outcome made from an evaluator bug begins.  Such an outcome is
+#: ``unsupported`` with ``method=None`` and must never be cached: a later, healthy run
+#: must decide the step again (see :func:`is_internal_error`).  Keep this text stable.
+INTERNAL_ERROR_MESSAGE = "the evaluator could not decide this step"
+
 
 def decide(
     lhs: Node,
@@ -46,10 +51,16 @@ def decide(
         if RAISE_INTERNAL_ERRORS:
             raise
         logger.exception("the evaluator failed")
-        return Outcome(
-            Verdict.UNSUPPORTED,
-            message=f"the evaluator could not decide this step ({type(error).__name__}: {error})",
-        )
+        return Outcome(Verdict.UNSUPPORTED, message=f"{INTERNAL_ERROR_MESSAGE} ({type(error).__name__}: {error})")
 
 
-__all__ = ["decide", "RAISE_INTERNAL_ERRORS"]
+def is_internal_error(outcome: Outcome) -> bool:
+    """Whether an outcome was made from an evaluator bug (never to be cached)."""
+    return (
+        outcome.verdict is Verdict.UNSUPPORTED
+        and outcome.method is None
+        and outcome.message.startswith(INTERNAL_ERROR_MESSAGE)
+    )
+
+
+__all__ = ["decide", "is_internal_error", "INTERNAL_ERROR_MESSAGE", "RAISE_INTERNAL_ERRORS"]

@@ -156,6 +156,10 @@ class Analysis:
     """Up-down mode with a ``metric`` directive: the metric's name."""
     homes: dict[str, tuple[bool, ...]] = field(default_factory=dict)
     """Up-down mode with a metric: each tensor's home index heights (see :mod:`.metric`)."""
+    square_operands: dict[int, bool] = field(default_factory=dict)
+    """``id(node)`` → whether that subtree is a square matrix at sizes where every class
+    has a size of its own (``|C|``, ``e^{M}``; filled while lowering, see
+    ``FunctionRules.square_matrix``)."""
 
     def range_of(self, key: Key) -> Key:
         return self.uf.find(key)

@@ -19,6 +19,7 @@ import sympy
 from ..expressions import nodes as N
 from . import linalg
 from .functions import ELEMENTWISE
+from .lazy import lazy_sum, lazy_times_lazy, lazy_times_value
 from .state import State
 from .values import (
     ONE,
@@ -27,6 +28,7 @@ from .values import (
     LazyValue,
     OutOfDomain,
     ShapeMismatch,
+    UnknownSize,
     Unsupported,
     Value,
     as_array,
@@ -73,12 +75,7 @@ class ArithmeticRules(_Base):
             concrete = [t for t in terms if isinstance(t, Value)]
         lazies = [t for t in terms if isinstance(t, LazyValue)]
         if lazies and not concrete:
-            kinds = {t.kind for t in lazies if t.kind != "zero"}
-            if not kinds:
-                return LazyValue("zero")
-            if len(kinds) == 1:
-                return LazyValue(kinds.pop(), sympy.Add(*[t.factor for t in lazies if t.kind != "zero"]))
-            raise Unsupported("a sum of identity and ones of unknown size", node.span)
+            return lazy_sum(lazies, node)
         ref = concrete[0]
         values = [t.materialize(ref.pos_shape) if isinstance(t, LazyValue) else t for t in terms]
         labels: list[str] = list(values[0].labels)
@@ -109,7 +106,13 @@ class ArithmeticRules(_Base):
     def lower_Mul(self, node: N.Mul, st: State) -> AnyValue:
         values = [self.lower(f, st) for f in node.factors]
         self._check_counts(values, st, node)
-        return functools.reduce(lambda a, b: self.product(a, b, st, node), values)
+        try:
+            return functools.reduce(lambda a, b: self.product(a, b, st, node), values)
+        except UnknownSize:
+            if not any(isinstance(v, LazyValue) for v in values[1:]):
+                raise
+            # 1ᵀ(I - 11ᵀ/n)X: grouped from the right, X tells the size first
+            return functools.reduce(lambda b, a: self.product(a, b, st, node), reversed(values))
 
     def _check_counts(self, values: list[AnyValue], st: State, node: N.Node) -> None:
         if self._explicit(st):
@@ -163,30 +166,16 @@ class ArithmeticRules(_Base):
         if isinstance(b, Value) and b.is_scalar:
             return a.scaled(b.scalar())  # type: ignore[union-attr]
         if isinstance(a, LazyValue) and isinstance(b, LazyValue):
-            if "zero" in (a.kind, b.kind):
-                return LazyValue("zero")
-            if a.kind == "eye":
-                return b.scaled(a.factor)
-            if b.kind == "eye":
-                return a.scaled(b.factor)
-            raise Unsupported("a product of ones vectors of unknown size", node.span)
+            return lazy_times_lazy(a, b, node)
         lazy, other, lazy_left = (a, b, True) if isinstance(a, LazyValue) else (b, a, False)
         assert isinstance(lazy, LazyValue) and isinstance(other, Value)
         if lazy.kind == "eye":
             return Value(other.data * lazy.factor, other.labels)
         if lazy.kind == "zero":
             return LazyValue("zero")
-        pos = other.pos_shape
-        if len(pos) != 2:
+        if len(other.pos_shape) != 2:
             raise Unsupported("a labelled factor next to a ones vector of unknown size", node.span)
-        # 1ᵀA needs a row as long as A is high; A1 a column as long as A is wide
-        if lazy_left and lazy.row:
-            concrete = lazy.materialize((1, pos[0]))
-            return self.product(concrete, other, st, node)
-        if not lazy_left and not lazy.row:
-            concrete = lazy.materialize((pos[1], 1))
-            return self.product(other, concrete, st, node)
-        raise Unsupported("the size of \\mathbf{1} cannot be told from its neighbours", node.span)
+        return lazy_times_value(lazy, other, lazy_left, node, lambda x, y: self.product(x, y, st, node))
 
     def lower_Dot(self, node: N.Dot, st: State) -> AnyValue:
         a, b = self.lower(node.left, st), self.lower(node.right, st)
@@ -245,6 +234,13 @@ class ArithmeticRules(_Base):
 
     def lower_Pow(self, node: N.Pow, st: State) -> AnyValue:
         exponent = self.lower_value(node.exponent, st)
+        if isinstance(node.base, N.Constant) and node.base.name == "e" and self.square_matrix(node.exponent, exponent, st):
+            if exponent.pos_shape:  # at sizes of 1 the matrix is a number and e^{…} its exponential
+                raise Unsupported(
+                    "the matrix exponential e^{…} of a square matrix is not checked "
+                    "(\\exp(…) is read elementwise)",
+                    node.span,
+                )
         if exponent.labels or exponent.pos_shape:
             base = self.lower_value(node.base, st)
             if base.pos_shape and exponent.pos_shape:

@@ -131,8 +131,8 @@ def _materialize(value: AnyValue, other: AnyValue) -> AnyValue:
             return Value(np.full(other.data.shape, sympy.Integer(0), dtype=object), other.labels)
         if other.pos_shape:
             return value.materialize(other.pos_shape)
-        if value.kind == "zero":
-            return Value(np.full((), sympy.Integer(0), dtype=object))
+        if value.kind == "zero" or not other.labels:  # next to a scalar: 1×1 (sizes of 1)
+            return value.materialize(())
     return value.materialize(value.vector_shape(2))
 
 

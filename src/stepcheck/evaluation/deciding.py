@@ -9,6 +9,7 @@ import random
 from dataclasses import dataclass
 from typing import Callable, Iterator
 
+import numpy as np
 import sympy
 
 from ..context.model import StepContext
@@ -16,13 +17,14 @@ from ..expressions import nodes as N
 from ..results import Outcome
 from ..settings import Settings
 from ..verdicts import Method, RelationKind, Verdict
-from . import compare
+from . import compare, linalg
 from .analysis import Analysis, Key, analyse
 from .compare import Aligned, NeedFloat
 from .compiled import CompiledStep, compile_step
 from .lower import Lowerer
+from .metric import move_axes
 from .model import FLOAT_DPS, HIGH_DPS, Env, Model
-from .sizes import named_only, sizes_phrase
+from .sizes import named_only, sizes_phrase, where_phrase
 from .sampling import Drawer, candidate_assignments, free_classes, size_assignments
 from .values import EvaluationError, IndexMismatch, OutOfDomain, ShapeMismatch, Unsupported
 
@@ -44,8 +46,12 @@ class Trial:
     dps: int
     """Digits the draw was judged at."""
 
-#: Draws that may fall outside a domain before a step is given up as unsupported.
+#: Draws that may fall outside a domain before a step is given up as unsupported …
 MAX_REDRAWS = 40
+#: … or, when more draws are asked for, this many per draw asked for: the budget grows
+#: with the draws, so more trials never turn a holding step unsupported (at the
+#: default 6 trials the two budgets are about the same).
+REDRAWS_PER_DRAW = 10
 #: Draws in a row outside the domain, with none inside yet, after which a size
 #: assignment is given up for another (a singular ``XᵀX`` at every draw when n < d).
 DOMAIN_PROBE = 6
@@ -58,6 +64,11 @@ COMPILE = True
 PROOF_OPS = 400
 #: Largest expression ``simplify`` is tried on (it is slow beyond).
 SIMPLIFY_OPS = 80
+
+
+def redraw_budget(count: int) -> int:
+    """Draws outside the domain allowed while ``count`` draws inside it are sought."""
+    return max(MAX_REDRAWS, REDRAWS_PER_DRAW * count)
 
 
 class AssignmentOutOfDomain(Unsupported):
@@ -130,12 +141,13 @@ class Decider:
         :param swap: ``(input, side, axes)``: that side sees the input with two axes swapped.
         :raises AssignmentOutOfDomain: the first :data:`DOMAIN_PROBE` draws all fell
             outside the domain (these sizes may exclude it; try others).
-        :raises Unsupported: too many draws fell outside the domain.
+        :raises Unsupported: more draws than :func:`redraw_budget` fell outside the domain.
         """
         confirm = check is None
         check = check or self.check
         drawer = Drawer(model, rng, small=small, extra=extra)
         done = failures = 0
+        budget = redraw_budget(count)
         while done < count:
             env = drawer.draw(mode)
             try:
@@ -144,7 +156,7 @@ class Decider:
                 failures += 1
                 if done == 0 and failures >= DOMAIN_PROBE:
                     raise AssignmentOutOfDomain(f"no draw fell inside the domain of the step ({e.message})") from e
-                if failures > MAX_REDRAWS:
+                if failures > budget:
                     raise Unsupported(f"no draw fell inside the domain of the step ({e.message})") from e
                 continue
             done += 1
@@ -199,7 +211,7 @@ class Decider:
         else:
             name, side, axes = swap
             values = dict(env.values)
-            values[name] = values[name].swapaxes(*axes).copy()
+            values[name] = self._swapped(name, values[name], axes, env)
             swapped = Env(env.mode, values, env.functions, env.raw, env.raw_functions, env.dps)
             left, right = (swapped, env) if side == "lhs" else (env, swapped)
             if compiled is not None:
@@ -211,6 +223,21 @@ class Decider:
         else:
             compare.float_entries(aligned.lhs, env.dps), compare.float_entries(aligned.rhs, env.dps)
         return aligned
+
+    def _swapped(self, name: str, data: np.ndarray, axes: tuple[int, int], env: Env) -> np.ndarray:
+        """An input with two index slots swapped: ``T_{ji}`` for ``T_{ij}``.  In up-down
+        mode with a metric and a home form whose two slots have different heights
+        (``T^{i}{}_{j}``), the slots are swapped in the all-lower form, so the
+        swapped tensor is what writing the indices the other way round means."""
+        home = self.analysis.homes.get(name)
+        metric = self.analysis.metric
+        if metric is None or home is None or metric not in env.values or home[axes[0]] == home[axes[1]]:
+            return data.swapaxes(*axes).copy()
+        lower = env.values[metric]
+        upper = linalg.inverse(lower)
+        flat = (False,) * len(home)
+        lowered = move_axes(data, flat, home, lower, upper).swapaxes(*axes)
+        return move_axes(lowered, home, flat, lower, upper)
 
     def check(self, aligned: Aligned, mode: str, dps: int = FLOAT_DPS) -> tuple[bool, float]:
         """Whether the relation holds on one draw (and the relative error seen)."""
@@ -284,7 +311,7 @@ class Decider:
         return Outcome(Verdict.HOLDS, _method(mode), message=self._with_notes(message))
 
     def _held(self, mode: str, count: int, models: list[Model], worst: float, deepest: int = FLOAT_DPS) -> str:
-        where = sizes_phrase(models) or "(scalar inputs)"
+        where = where_phrase(models, scalar="(scalar inputs)")
         if self.relation is RelationKind.NOT_EQUAL:
             return f"the sides differed on every one of {count} random draws {where}"
         if self.relation in (RelationKind.ORDER, RelationKind.LOEWNER):

@@ -50,7 +50,7 @@ def describe_step(lhs: N.Node, rhs: N.Node | None, context: StepContext) -> list
 
 def _value_lines(word: str, value: Value | LazyValue) -> list[str]:
     if isinstance(value, LazyValue):
-        return [f"  {word}: {value.factor}·{value.kind} (size set by the other side)"]
+        return [f"  {word}: {value.text()} (size set by the other side)"]
     what = shape_text(value.pos_shape)
     if value.labels:
         what += ", free indices " + ", ".join(value.labels)

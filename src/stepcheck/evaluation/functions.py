@@ -139,7 +139,33 @@ class FunctionRules(_Base):
         return self._blockwise(value, lambda b: linalg.norm(b, node.kind, functools.partial(self._function, "sqrt")))
 
     def lower_Abs(self, node: N.Abs, st: State) -> AnyValue:
-        return self.lower_value(node.operand, st).map(sympy.Abs)
+        """``|x|`` elementwise; ``|C|`` of a square matrix is its determinant (common
+        practice in statistics: ``\\log|\\Sigma|``), with a note."""
+        value = self.lower_value(node.operand, st)
+        if not self.square_matrix(node.operand, value, st):
+            return value.map(sympy.Abs)
+        note = "|X| of a square matrix X is read as its determinant det X"
+        if note not in self.notes:
+            self.notes.append(note)
+        return self._blockwise(value, self.determinant)
+
+    def square_matrix(self, node: N.Node, value: Value, st: State) -> bool:
+        """Whether a subtree (of value ``value`` here) is a square matrix as written.
+
+        At sizes of 1 a matrix is a number, and when a hint makes two sizes equal an n×d
+        matrix is square; ``|X|`` and ``e^{M}`` mean what they mean at distinct sizes, so
+        at such sizes the answer is the one at the step's first size assignment, where
+        every size class has a size of its own.
+        """
+        pos = value.pos_shape
+        if value.labels or len(pos) not in (0, 2):
+            return False
+        if not _sizes_coincide(self.model):
+            return len(pos) == 2 and pos[0] == pos[1]
+        analysis = self.model.analysis
+        if id(node) not in analysis.square_operands:
+            analysis.square_operands[id(node)] = _square_at_distinct_sizes(self.model, node, st)
+        return analysis.square_operands[id(node)]
 
     def lower_Inner(self, node: N.Inner, st: State) -> AnyValue:
         a, b = self.lower_value(node.left, st), self.lower_value(node.right, st)
@@ -151,3 +177,27 @@ class FunctionRules(_Base):
                 raise ShapeMismatch(f"an inner product of shapes {shape_text(pa)} and {shape_text(pb)}", node.span)
         prod = self.elementwise(a, b, lambda x, y: x * y, node)
         return self._blockwise(prod, lambda blk: sympy.Add(*blk.flat) if blk.ndim else blk[()])
+
+
+def _sizes_coincide(model: Any) -> bool:
+    """Whether the model gives two size classes one size, or some class the size 1."""
+    key = ("sizes-coincide",)
+    if key not in model.probe_cache:
+        uf = model.analysis.uf
+        roots = {uf.find(k) for k in uf.order}
+        sizes = [model.size_of(r) for r in roots]
+        model.probe_cache[key] = 1 in sizes or len(set(sizes)) < len(sizes)
+    return model.probe_cache[key]
+
+
+def _square_at_distinct_sizes(model: Any, node: N.Node, st: State) -> bool:
+    from .model import Model
+    from .sampling import probe_value, size_assignments
+
+    numeric = State(bound=st.bound, frozen=st.frozen, definition=st.definition, elementwise=st.elementwise)
+    try:
+        probe = probe_value(Model(model.analysis, size_assignments(model.analysis)[0]), node, numeric)
+    except KeyError:  # a chain-rule variable has no draw of its own
+        return False
+    pos = probe.pos_shape if isinstance(probe, Value) and not probe.labels else ()
+    return len(pos) == 2 and pos[0] == pos[1]

@@ -13,6 +13,7 @@ more precise diagnosis of what was written.
 
 from __future__ import annotations
 
+import logging
 import random
 from typing import TYPE_CHECKING, Any, Callable
 
@@ -33,11 +34,13 @@ from .sampling import (
     small_assignments,
     to_json_array,
 )
-from .sizes import SizeClass, size_classes, sizes_phrase
+from .sizes import SizeClass, size_classes, where_phrase
 from .values import EvaluationError, Value
 
 if TYPE_CHECKING:
     from .deciding import Decider
+
+logger = logging.getLogger(__name__)
 
 #: Draws per size assignment when testing a variant.
 VARIANT_DRAWS = 3
@@ -52,13 +55,30 @@ Check = Callable[[Aligned, str, int], tuple[bool, float]]
 
 
 def diagnose(decider: Decider, model: Model, env: Env, aligned: Aligned, mode: str) -> tuple[str | None, dict, str]:
-    """The hint, the counterexample and the message of a failing step."""
+    """The hint, the counterexample and the message of a failing step.
+
+    The step has failed on a draw; an evaluator bug met while explaining it costs the
+    hint or the smaller counterexample, never the verdict.
+    """
     hint = None
     if decider.relation in (RelationKind.EQUAL, RelationKind.EQUIV, RelationKind.DEFINE):
-        hint = _first_hint(decider, model, aligned, mode)
-    found = _smallest_counterexample(decider, mode)
+        hint = _guarded(lambda: _first_hint(decider, model, aligned, mode))
+    found = _guarded(lambda: _smallest_counterexample(decider, mode))
     cx_model, cx_env, cx_aligned = found if found is not None else (model, env, aligned)
     return hint, counterexample(decider, cx_model, cx_env, cx_aligned), _message(decider, cx_model, cx_aligned)
+
+
+def _guarded(explain: Callable[[], Any]) -> Any:
+    """``explain()``, or None when it meets an evaluator bug (raised under test)."""
+    from . import RAISE_INTERNAL_ERRORS
+
+    try:
+        return explain()
+    except Exception:  # StepTimeout is a BaseException and passes
+        if RAISE_INTERNAL_ERRORS:
+            raise
+        logger.exception("explaining a failing step failed")
+        return None
 
 
 def counterexample(decider: Decider, model: Model, env: Env, aligned: Aligned) -> dict[str, Any]:
@@ -81,9 +101,17 @@ def counterexample(decider: Decider, model: Model, env: Env, aligned: Aligned) -
 
 
 def _shown(aligned: Aligned, digits: int | None = None) -> tuple[Any, Any]:
-    """Both sides as printed (the right side in its own shape when it was transposed)."""
+    """Both sides as printed (the right side in its own shape when it was transposed).
+
+    A column prints as a flat list, except beside a row: then it prints as a list of
+    one-entry rows (``[[44], [8]]`` against ``[[44, 8]]``) so the two shapes differ at a glance.
+    """
     rhs = compare._transpose(aligned.rhs) if aligned.transposed else aligned.rhs
-    return to_json_array(aligned.lhs.data, digits=digits), to_json_array(rhs.data, digits=digits)
+    flat = not aligned.transposed
+    return (
+        to_json_array(aligned.lhs.data, flatten_columns=flat, digits=digits),
+        to_json_array(rhs.data, flatten_columns=flat, digits=digits),
+    )
 
 
 def _defined_values(decider: Decider, model: Model, env: Env) -> dict[str, Any]:
@@ -120,7 +148,7 @@ def _visible(decider: Decider, aligned: Aligned) -> bool:
 
 
 def _message(decider: Decider, model: Model, aligned: Aligned) -> str:
-    where = sizes_phrase([model]) or "at scalar inputs"
+    where = where_phrase([model])
     kind = decider.relation
     if kind is RelationKind.NOT_EQUAL:
         return f"the sides are equal on a draw {where}"
@@ -178,6 +206,7 @@ def _first_hint(decider: Decider, model: Model, aligned: Aligned, mode: str) -> 
     tests: list[Callable[[], str | None]] = [
         lambda: _transpose_hint(decider, assignments, aligned, mode),
         lambda: _factor_hint(decider, assignments, aligned, mode),
+        lambda: _free_indices_hint(decider, assignments, aligned, mode),
     ]
     structural = [
         lambda: _symmetric_hint(decider, model, assignments, mode),
@@ -205,16 +234,24 @@ def _transpose_hint(decider: Decider, assignments: list[dict], aligned: Aligned,
         check = lambda a, m, dps: (
             not a.transposed and compare.equal(Aligned(a.lhs, compare._transpose(a.rhs)), m, dps)[0], 0.0
         )
-    elif len(lhs.labels) == 2 and not lhs.pos_shape:
-        check = lambda a, m, dps: compare.equal(Aligned(a.lhs, _swap_labels(a.rhs)), m, dps)
-        if _variant_holds(decider, assignments, mode, check):
-            return f"the sides agree after swapping the free indices {lhs.labels[0]} and {lhs.labels[1]} of one side"
-        return None
     else:
         return None
     if not _variant_holds(decider, assignments, mode, check):
         return None
     return _layout_text(decider)
+
+
+def _free_indices_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mode: str) -> str | None:
+    """Index notation's transpose: the sides agree with two free indices swapped on one.
+    Tried after the factor hint: ``W_{ij} = -W_{ji}`` for a skew W is a sign, and SPEC
+    §9 lists the factor first."""
+    lhs = aligned.lhs
+    if aligned.transposed or len(lhs.labels) != 2 or lhs.pos_shape:
+        return None
+    check: Check = lambda a, m, dps: compare.equal(Aligned(a.lhs, _swap_labels(a.rhs)), m, dps)
+    if _variant_holds(decider, assignments, mode, check):
+        return f"the sides agree after swapping the free indices {lhs.labels[0]} and {lhs.labels[1]} of one side"
+    return None
 
 
 def _swap_labels(v: Value) -> Value:
@@ -297,31 +334,40 @@ def _symmetric_hint(decider: Decider, model: Model, assignments: list[dict], mod
 
 
 def _size_one_hint(decider: Decider, model: Model, mode: str) -> str | None:
+    """Sizes at which the step holds though it fails at the sizes tried: one size of 1
+    (each tried alone, all named), every size equal, every size 1.  Each is a claim
+    about the sizes it was tried at, so the text says "holds when …", never "only"."""
     free = free_classes(decider.analysis)
     if not free:
         return None
-    names = {c.root: c for c in size_classes(decider.analysis)}
+    classes = {c.root: c for c in size_classes(decider.analysis)}
+    ones = []
     for root in free:
         sizes = dict(model.sizes)
         sizes[root] = 1
         if _variant_holds(decider, [sizes], mode, _equal(mode)):
-            return _size_one_text(names.get(root))
-    if len(free) > 1:
-        sizes = {root: 1 for root in free}
-        if _variant_holds(decider, [sizes], mode, _equal(mode)):
-            return "holds only when every size is 1"
+            ones.append(_one_text(classes.get(root)))
+    if ones:
+        return f"holds when {' or when '.join(ones)} but not at the sizes tried"
+    if len(free) < 2:
+        return None
+    letters = [classes[r].letter if r in classes else None for r in free]
+    if all(letters) and _variant_holds(decider, [dict.fromkeys(free, 2), dict.fromkeys(free, 3)], mode, _equal(mode)):
+        return f"holds when {' = '.join(letters)} but not at the sizes tried: two sizes may be mixed up"  # type: ignore[arg-type]
+    if _variant_holds(decider, [dict.fromkeys(free, 1)], mode, _equal(mode)):
+        named = f" ({' = '.join(letters)} = 1)" if all(letters) else ""  # type: ignore[arg-type]
+        return f"holds when every size is 1{named} but not at the sizes tried"
     return None
 
 
-def _size_one_text(c: SizeClass | None) -> str:
-    """The size-one hint, naming the size by its dimension letter, else by the indices
-    that range over it."""
+def _one_text(c: SizeClass | None) -> str:
+    """One size of 1, named by its dimension letter, else by the indices that range over it."""
     if c is not None and c.letter is not None:
-        return f"holds only when {c.letter} = 1"
+        return f"{c.letter} = 1"
     if c is not None and c.indices:
         verb = "ranges" if len(c.indices) == 1 else "range"
-        return f"holds only when {', '.join(c.indices)} {verb} over one value"
-    return "holds only for a size of 1"
+        return f"{', '.join(c.indices)} {verb} over one value"
+    return "a size is 1"
 
 
 def _swapped_hint(decider: Decider, model: Model, assignments: list[dict], mode: str) -> str | None:

@@ -332,8 +332,12 @@ class Lowerer(ArithmeticRules, FunctionRules):
             return self.explicit_in_definitions or st.elementwise
         return self.explicit
 
-    def _defined(self, node: N.Symbol, definition: Definition, st: State) -> Value:
+    def _defined(self, node: N.Symbol, definition: Definition, st: State) -> AnyValue:
         value = self._definition_value(definition, st, ())
+        if isinstance(value, LazyValue):
+            if definition.indices or node.subs:
+                return self.lower_value(node, st)  # raises: the size cannot be told
+            return value  # H = I - 11ᵀ/n takes its size where it is used
         if definition.indices:
             if set(value.labels) != set(definition.indices):
                 raise IndexMismatch(
@@ -355,11 +359,14 @@ class Lowerer(ArithmeticRules, FunctionRules):
             return self.index_native(data, node.subs, st, node, positional=False)
         return self.index_positional(value, node.subs, st, node)
 
-    def _definition_value(self, definition: Definition, st: State, overrides: tuple) -> Value:
+    def _definition_value(self, definition: Definition, st: State, overrides: tuple) -> AnyValue:
         inner = State(frozen=st.frozen, keep=st.keep, overrides=overrides, definition=True, elementwise=definition.no_sum)
         key = (definition.name, inner.cache_key())
         if key not in self._definition_cache:
-            self._definition_cache[key] = self.lower_value(definition.body, inner)
+            value = self.lower(definition.body, inner)
+            if isinstance(value, LazyValue) and value.kind == "zero":
+                value = self.lower_value(definition.body, inner)
+            self._definition_cache[key] = value
         return self._definition_cache[key]
 
     def _is_defined(self, name: str, st: State) -> bool:

@@ -88,14 +88,51 @@ def sizes_phrase(models: Iterable[Model]) -> str:
     return ("at size " if single else "at sizes ") + " and ".join(t for t in texts if t)
 
 
+def where_phrase(models: Iterable[Model], scalar: str = "at scalar inputs") -> str:
+    """:func:`sizes_phrase`, else ``scalar`` when every input is a scalar, else (every
+    size fixed by the document without a letter: ``\\mathbb{R}^3``) ``at the sizes the
+    document fixes``."""
+    models = list(models)
+    phrase = sizes_phrase(models)
+    if phrase:
+        return phrase
+    inputs = models[0].analysis.inputs.values() if models else ()
+    if any(spec.all_axes for spec in inputs):
+        return "at the sizes the document fixes"
+    return scalar
+
+
 def named_only(model: Model) -> bool:
     """Whether every size class of the model has a dimension letter."""
     return not _split(model)[1]
 
 
 def display_sizes(model: Model) -> dict[str, int]:
-    """Size by class key, for a counterexample (JSON-ready)."""
-    return {c.key: model.size_of(c.root) for c in size_classes(model.analysis)}
+    """Size by class key, for a counterexample (JSON-ready).
+
+    Classes without a dimension letter that the step fixes to one size for one reason
+    (the ranges of a Levi-Civita symbol here and in a definition's own scope) are one
+    entry keyed by all their index letters, ``{"i,j,k": 3}``, never ``{"i,j,k": 3,
+    "k,i": 3}``; and none is listed beside a lettered class fixed to that size for that
+    reason (``{"n": 3}``).
+    """
+    fixed = model.analysis.uf.fixed
+    classes = [(c, model.size_of(c.root)) for c in size_classes(model.analysis)]
+    named = {(size, c.reason) for c, size in classes if c.letter is not None and c.root in fixed}
+    groups: dict[tuple, list[str]] = {}
+    entries: list[tuple[str | list[str], int]] = []
+    for c, size in classes:
+        if c.letter is None and c.indices and c.root in fixed:
+            if (size, c.reason) in named:
+                continue
+            group = groups.get((size, c.reason))
+            if group is None:
+                group = groups[(size, c.reason)] = []
+                entries.append((group, size))
+            group.extend(l for l in c.indices if l not in group)
+        else:
+            entries.append((c.key, size))
+    return {key if isinstance(key, str) else ",".join(key): size for key, size in entries}
 
 
 def _split(model: Model) -> tuple[str, list[str]]:

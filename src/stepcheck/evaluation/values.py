@@ -49,6 +49,11 @@ class IndexMismatch(EvaluationError):
     """Free indices that do not agree (verdict ``index-error``)."""
 
 
+class UnknownSize(Unsupported):
+    """A product of identity or ones written without a size whose size no neighbour
+    tells (``\\mathbf{1}^\\top\\mathbf{1}``): another grouping of the product may."""
+
+
 class OutOfDomain(EvaluationError):
     """A draw fell outside a function's domain (a division by zero, a singular
     matrix, a logarithm of a negative number): the draw is repeated."""
@@ -149,25 +154,54 @@ def scalar_value(x: object) -> Value:
 
 @dataclass(frozen=True, slots=True, eq=False)
 class LazyValue:
-    """``factor · I``, ``factor · 1`` or ``0`` whose size is not yet known.
+    """``factor · I``, ``factor · 1``, ``factor · 11ᵀ``, ``0`` or a sum of square ones,
+    whose size is not yet known.
 
-    ``kind`` is ``"eye"`` (square), ``"ones"`` or ``"zero"``; ``row`` marks a
-    transposed vector (``\\mathbf{1}^\\top``).  ``zero`` is shaped like whatever it
-    meets.
+    ``kind`` is ``"eye"`` (square), ``"ones"`` (a vector), ``"ones-matrix"`` (every
+    entry ``factor``, any matrix shape: ``\\mathbf{1}\\mathbf{1}^\\top``), ``"zero"``
+    (shaped like whatever it meets) or ``"sum"`` (square: the sum of ``parts``, each an
+    ``eye`` or a ``ones-matrix``: ``I - \\tfrac1d\\mathbf{1}\\mathbf{1}^\\top``); ``row``
+    marks a transposed vector (``\\mathbf{1}^\\top``).  See :mod:`.lazy` for how
+    they combine and take their size from a neighbour.
     """
 
     kind: str
     factor: object = ONE
     row: bool = False
+    parts: tuple[LazyValue, ...] = ()
+    """The terms of a ``"sum"`` (``factor`` is then unused)."""
+    template: Any = None
+    """A ``"tile"``: the row (1×c, ``row`` True) repeated down rows of unknown
+    number, or the column (r×1) repeated across columns (``11ᵀX``, ``X11ᵀ``)."""
+
+    @property
+    def square(self) -> bool:
+        """Whether every size this value can take is square."""
+        return self.kind in ("eye", "sum")
 
     def scaled(self, c: object) -> LazyValue:
+        if self.kind == "sum":
+            return LazyValue("sum", parts=tuple(p.scaled(c) for p in self.parts))
+        if self.kind == "tile":
+            return LazyValue("tile", row=self.row, template=obj_array(self.template.shape, lambda i: self.template[i] * c))
         return LazyValue(self.kind, self.factor * c, self.row)
 
     def transposed(self) -> LazyValue:
-        return LazyValue(self.kind, self.factor, not self.row if self.kind != "eye" else False)
+        if self.kind == "sum":
+            return self
+        if self.kind == "tile":
+            return LazyValue("tile", row=not self.row, template=self.template.T.copy())
+        return LazyValue(self.kind, self.factor, not self.row if self.kind == "ones" else False)
 
     def materialize(self, shape: tuple[int, ...]) -> Value:
         """This value at a concrete positional shape."""
+        if self.kind == "sum":
+            if shape and (len(shape) != 2 or shape[0] != shape[1]):
+                raise ShapeMismatch(f"a sum with an identity matrix cannot have shape {shape_text(shape)}")
+            values = [p.materialize(shape) for p in self.parts]
+            return make_value(obj_array(values[0].data.shape, lambda i: sympy.Add(*[v.data[i] for v in values])))
+        if self.kind == "tile":
+            return self._tile(shape)
         f = self.factor
         if shape == ():  # next to a 1×1 value, which is a scalar (SPEC §8)
             return Value(as_array(ZERO if self.kind == "zero" else f))
@@ -179,11 +213,35 @@ class LazyValue:
             return make_value(obj_array(shape, lambda i: ZERO))
         return make_value(obj_array(shape, lambda i: f))
 
+    def _tile(self, shape: tuple[int, ...]) -> Value:
+        t = self.template
+        known = t.shape[1] if self.row else t.shape[0]
+        want = (shape[1] if self.row else shape[0]) if len(shape) == 2 else 1 if shape == () else None
+        if want != known:
+            raise ShapeMismatch(
+                f"a {shape_text(t.shape)} {'row' if self.row else 'column'} repeated cannot have shape {shape_text(shape)}"
+            )
+        if shape == ():
+            return Value(as_array(t[0, 0]))
+        return make_value(obj_array(shape, lambda i: t[0, i[1]] if self.row else t[i[0], 0]))
+
     def vector_shape(self, n: int) -> tuple[int, ...]:
-        """The positional shape of this vector (or square matrix) at size ``n``."""
-        if self.kind == "eye":
+        """The positional shape of this vector (or matrix) at size ``n``."""
+        if self.kind in ("eye", "sum", "ones-matrix"):
             return (n, n)
+        if self.kind == "tile":
+            return (n, self.template.shape[1]) if self.row else (self.template.shape[0], n)
         return (1, n) if self.row else (n, 1)
+
+    def text(self) -> str:
+        """``2·I``, ``-1/d·11ᵀ``, ``1·I + -1/d·11ᵀ`` (for ``stepcheck explain``)."""
+        if self.kind == "sum":
+            return " + ".join(p.text() for p in self.parts)
+        if self.kind == "tile":
+            entries = ", ".join(str(x) for x in self.template.flat)
+            return f"rows [{entries}] repeated" if self.row else f"columns [{entries}] repeated"
+        name = {"eye": "I", "ones": "1ᵀ" if self.row else "1", "ones-matrix": "11ᵀ", "zero": "0"}.get(self.kind, self.kind)
+        return f"{self.factor}·{name}"
 
 
 def to_positional(native: np.ndarray) -> np.ndarray:
