@@ -104,7 +104,7 @@ def discover(
     """
     found: list[tuple[pathlib.Path, str, pathlib.Path]] = []
     seen: set[pathlib.Path] = set()
-    cwd = os.getcwd()
+    cwd = os.getcwd() if include or exclude else ""  # relative patterns are relative to it
     includes = [PathPattern.compile(p, cwd) for p in include]
     excludes = [PathPattern.compile(p, cwd) for p in exclude]
     for given in paths:
