@@ -63,3 +63,16 @@ def test_explain_math_of_an_unreadable_step_names_the_column():
     with pytest.raises(ParseError) as caught:
         explain_math("a = {b")
     assert str(caught.value) == "<math>:1:5: unclosed '{': no matching '}'"
+
+
+def test_a_notebook_without_a_cell_names_the_cells_that_have_steps(tmp_path):
+    import json
+
+    cells = [{"cell_type": "markdown", "metadata": {}, "source": ["# Fan curve\n"]},
+             {"cell_type": "markdown", "metadata": {}, "source": ["Fit:\n", "$$ (a+b)^2 = a^2 + 2ab + b^2 $$\n"]}]
+    path = tmp_path / "fan.ipynb"
+    path.write_text(json.dumps({"cells": cells, "metadata": {}, "nbformat": 4, "nbformat_minor": 5}), encoding="utf-8")
+    with pytest.raises(InputError) as caught:
+        explain_line(str(path), 2)
+    assert str(caught.value).endswith(f"a notebook's steps are reported per cell, e.g. {path}#cell2:2")
+    assert "verdict: holds" in explain_line(f"{path}#cell2", 2)

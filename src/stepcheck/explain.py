@@ -136,7 +136,14 @@ def explain_line(path: str, line: int, settings: Settings | None = None) -> str:
     plans = _plans_on(context.plans, wanted, line)
     if not plans:
         nearby = sorted({_line_of(p) for p in context.plans if p.step.source.path == wanted})
-        hint = f"; steps stand on lines {_some(nearby, line)}" if nearby else "; the file has no steps"
+        cells = sorted({p.step.source.path for p in context.plans if p.step.source.path.startswith(wanted + "#")})
+        if nearby:
+            hint = f"; steps stand on lines {_some(nearby, line)}"
+        elif cells:
+            shown = ", ".join(c + f":{_line_of(next(p for p in context.plans if p.step.source.path == c))}" for c in cells[:5])
+            hint = f"; a notebook's steps are reported per cell, e.g. {shown}"
+        else:
+            hint = "; the file has no steps"
         raise InputError(f"{wanted}:{line}: no step is reported on this line{hint}")
     return _explain_plans(plans, context.origins, settings)
 
