@@ -353,3 +353,24 @@ def test_a_bug_while_explaining_keeps_the_fails_verdict(monkeypatch):
                                 RelationKind.EQUAL, ctx, Settings(trials=4))
     assert outcome.verdict is Verdict.FAILS and outcome.hint is None
     assert outcome.counterexample["sizes"] == {"n": 2}
+
+
+def test_a_float_counterexample_prefers_inputs_that_make_it_checkable_by_hand():
+    # GIVEN a chiller's decay fit L = ½Σ r_i², r_i = y_i − a e^{−k t_i}, WHEN ∂L/∂k is written
+    # with its sign flipped (it is +aΣ r_i t_i e^{−k t_i}; central differences below), THEN the
+    # counterexample draws k = 0, where e^{−kt} = 1 and every value is a whole number.
+    defs = {"L": r"\tfrac12 \sum_{i=1}^{n} r_i^2", "r_i": r"y_i - a e^{-k t_i}"}
+    outcome = decide_latex(r"\frac{\partial L}{\partial k}", r"-a \sum_{i=1}^{n} r_i t_i e^{-k t_i}",
+                           shapes={"y": ("n",), "t": ("n",), "r": ("n",)}, definitions=defs)
+    assert outcome.verdict is Verdict.FAILS
+    cx = outcome.counterexample
+    assert cx["inputs"]["k"] == 0
+    assert float(cx["lhs"]).is_integer() and float(cx["rhs"]).is_integer()
+    a = float(fraction(cx["inputs"]["a"]))
+    y, t = (np.array([float(fraction(v)) for v in np.ravel(cx["inputs"][name])]) for name in ("y", "t"))
+
+    def loss(k):
+        return 0.5 * np.sum((y - a * np.exp(-k * t)) ** 2)
+
+    h = 1e-6
+    assert abs((loss(h) - loss(-h)) / (2 * h) - cx["lhs"]) < 1e-6

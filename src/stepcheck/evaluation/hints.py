@@ -13,6 +13,7 @@ more precise diagnosis of what was written.
 
 from __future__ import annotations
 
+import json
 import logging
 import random
 from typing import TYPE_CHECKING, Any, Callable
@@ -386,20 +387,46 @@ def _index_notation(decider: Decider) -> bool:
 # --------------------------------------------------------------------------- counterexample
 
 
+#: Draws of small integers per size assignment when a counterexample is sought.
+SMALL_DRAWS = 6
+
+
 def _smallest_counterexample(decider: Decider, mode: str) -> tuple[Model, Env, Aligned] | None:
-    """A failing draw at the smallest sizes, small integers first."""
+    """A failing draw at the smallest sizes, small integers first (entries 0 and 1, then
+    wider); of the failing small draws at those sizes, the one that prints shortest
+    (``e^{-kt}`` at k = 0 rather than k = −1: a person checks it by hand)."""
     rng = random.Random(decider.settings.seed + 11)
     candidates = small_assignments(decider.analysis)
     for sizes in candidates + [s for s in size_assignments(decider.analysis) if s not in candidates]:
         model = decider.model(sizes)
-        for small, count in ((True, 4), (False, 2)):
-            try:
-                for trial in decider.trials(model, rng, count, mode, small=small):
-                    if not trial.ok and _visible(decider, trial.aligned):
-                        return model, trial.env, trial.aligned
-            except (EvaluationError, NeedFloat):
+        for small, count in ((True, SMALL_DRAWS), (False, 2)):
+            found, stopped = _failing_draws(decider, model, rng, count, mode, small)
+            if found:
+                best = min(found, key=lambda t: _printed_length(decider, model, t))
+                return model, best.env, best.aligned
+            if stopped:
                 break
     return None
+
+
+def _failing_draws(decider: Decider, model: Model, rng: random.Random, count: int, mode: str, small: bool) -> tuple[list, bool]:
+    """The failing draws that show the failure in print (of small draws all, else the
+    first), and whether the draws stopped early (outside the domain, or irrational)."""
+    found: list = []
+    try:
+        for trial in decider.trials(model, rng, count, mode, small=small):
+            if not trial.ok and _visible(decider, trial.aligned):
+                found.append(trial)
+                if not small:
+                    break
+    except (EvaluationError, NeedFloat):
+        return found, True
+    return found, False
+
+
+def _printed_length(decider: Decider, model: Model, trial: Any) -> int:
+    printed = [inputs_json(model, trial.env), _defined_values(decider, model, trial.env), *_shown(trial.aligned)]
+    return len(json.dumps(printed, default=str))
 
 
 def _flat(value: Any) -> list:

@@ -149,9 +149,15 @@ class Drawer:
 
     def _entry(self, kinds: frozenset[K]) -> Any:
         r = self.rng
-        if K.INTEGER in kinds or self.small:
-            lo = 1 if K.POSITIVE in kinds else 0 if K.NONNEGATIVE in kinds else -9 if not self.small else -2
-            return sympy.Integer(r.randint(lo, 9 if not self.small else 3))
+        if self.small:
+            # a counterexample a person can check: entries 0 and 1 in the first three draws
+            # (e^{-kt} at k = 0 is 1), then -1 … 2 in two, then -2 … 3
+            level = (0, 0, 0, 1, 1, 2)[min(self.count - 1, 5)]
+            lo = 1 if K.POSITIVE in kinds else 0 if K.NONNEGATIVE in kinds else -level
+            return sympy.Integer(r.randint(lo, max(lo, level + 1)))
+        if K.INTEGER in kinds:
+            lo = 1 if K.POSITIVE in kinds else 0 if K.NONNEGATIVE in kinds else -9
+            return sympy.Integer(r.randint(lo, 9))
         if self.spread == 2:
             q = r.randint(2, 9)
             p = r.randint(1 if K.POSITIVE in kinds else 0 if K.NONNEGATIVE in kinds else 1 - q, q - 1)
