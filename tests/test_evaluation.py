@@ -680,3 +680,17 @@ def test_an_evaluator_bug_is_marked_so_it_is_never_cached(monkeypatch):
     monkeypatch.setattr(evaluation, "RAISE_INTERNAL_ERRORS", True)
     with pytest.raises(RuntimeError):
         evaluation.decide(a, b, RelationKind.EQUAL, ctx, Settings())
+
+
+def test_no_simplification_is_attempted_when_a_draw_already_shows_a_difference(monkeypatch):
+    # sin(a+b) = sin a + sin b is refuted at any generic draw (common practice): the symbolic
+    # proof, whose simplify can cost seconds, is not attempted
+    from stepcheck.evaluation import deciding
+
+    attempts = []
+    real = deciding._vanishes
+    monkeypatch.setattr(deciding, "_vanishes", lambda d, rational: attempts.append(d) or real(d, rational))
+    assert decide_latex(r"\sin(a + b)", r"\sin a + \sin b").verdict is Verdict.FAILS
+    assert attempts == []
+    assert decide_latex(r"\sin(2a)", r"2\sin a\cos a").method is Method.SYMBOLIC
+    assert attempts, "a true identity is still proved"
