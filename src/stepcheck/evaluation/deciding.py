@@ -376,7 +376,7 @@ class Decider:
         table = model.substitution(env)
         for x, y in pairs:
             try:
-                a, b = (complex(sympy.N(sympy.sympify(v).xreplace(table), FLOAT_DPS)) for v in (x, y))
+                a, b = (complex(sympy.N(_expr(v).xreplace(table), FLOAT_DPS)) for v in (x, y))
             except (TypeError, ValueError, ZeroDivisionError, OverflowError):
                 continue
             if a.imag or b.imag or not all(map(math.isfinite, (a.real, b.real))):
@@ -393,6 +393,16 @@ def _skipped_text(skipped: list[tuple[Model, AssignmentOutOfDomain]]) -> str:
     sizes = " and ".join(m.sizes_text() for m, _ in skipped)
     cause = skipped[0][1].message.rpartition("(")[2].rstrip(")")
     return f" (sizes {sizes} skipped: no draw inside the domain, {cause})"
+
+
+def _expr(v: object) -> sympy.Basic:
+    """An array entry as a sympy object (entries that are plain Python numbers are wrapped
+    by constructor, never by parsing)."""
+    if isinstance(v, sympy.Basic):
+        return v
+    if isinstance(v, int):
+        return sympy.Integer(v)
+    return sympy.Float(float(v))
 
 
 def _vanishes(d: sympy.Expr, rational: bool) -> bool:
