@@ -374,3 +374,28 @@ def test_a_float_counterexample_prefers_inputs_that_make_it_checkable_by_hand():
 
     h = 1e-6
     assert abs((loss(h) - loss(-h)) / (2 * h) - cx["lhs"]) < 1e-6
+
+
+def test_sides_that_differ_by_a_skew_matrix_get_the_symmetric_part_hint():
+    # GIVEN a conveyor's closed loop M = A − BK and a symmetric P, WHEN the Lyapunov
+    # expression MᵀP + PM = AᵀP + PA − (PBK + (PBK)ᵀ) (common practice; numpy below) is
+    # shortened to − 2PBK, THEN no single matrix's symmetry explains it, but the sides
+    # differ by the skew matrix PBK − (PBK)ᵀ: the hint names the symmetric parts.
+    outcome = decide_latex(r"M^\top P + P M", r"A^\top P + P A - 2PBK",
+                           shapes={"A": ("n", "n"), "P": ("n", "n"), "B": ("n", "m"), "K": ("m", "n"), "M": ("n", "n")},
+                           assumptions={"P": {"symmetric"}}, definitions={"M": "A - BK"})
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == ("the sides differ by a skew-symmetric matrix: only their symmetric parts agree "
+                            "(is 2X written for X + X^\\top?)")
+    cx = outcome.counterexample
+    A, P, B, K = (exact(cx["inputs"][k]).astype(float) for k in ("A", "P", "B", "K"))
+    Acl = A - B @ K
+    difference = (Acl.T @ P + P @ Acl) - (A.T @ P + P @ A - 2 * P @ B @ K)
+    assert np.allclose(difference, -difference.T) and not np.allclose(difference, 0)
+
+
+def test_a_named_symmetric_matrix_is_preferred_to_the_symmetric_parts():
+    # ∂(xᵀAx)/∂x = (A + Aᵀ)x in denominator layout (The Matrix Cookbook, eq. 81, number
+    # recalled from memory): written 2Ax it holds if A is symmetric, which names the matrix
+    outcome = decide_latex(r"\nabla_{\mathbf{x}} \mathbf{x}^\top A \mathbf{x}", r"2A\mathbf{x}", shapes=SQUARE)
+    assert outcome.hint == "holds if A is symmetric (A is not assumed symmetric: write A = A^\\top if it is)"

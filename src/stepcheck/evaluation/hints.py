@@ -211,11 +211,12 @@ def _first_hint(decider: Decider, model: Model, aligned: Aligned, mode: str) -> 
     ]
     structural = [
         lambda: _symmetric_hint(decider, model, assignments, mode),
+        lambda: _symmetric_part_hint(decider, assignments, aligned, mode),
         lambda: _size_one_hint(decider, model, mode),
         lambda: _swapped_hint(decider, model, assignments, mode),
     ]
     if _index_notation(decider):
-        structural = [structural[2], structural[0], structural[1]]
+        structural = structural[3:] + structural[:3]
     for test in tests + structural:
         hint = test()
         if hint is not None:
@@ -331,6 +332,36 @@ def _symmetric_hint(decider: Decider, model: Model, assignments: list[dict], mod
         extra = {name: frozenset({AssumptionKind.SYMMETRIC})}
         if _variant_holds(decider, assignments, mode, _equal(mode), extra=extra):
             return f"holds if {name} is symmetric ({name} is not assumed symmetric: write {name} = {name}^\\top if it is)"
+    return None
+
+
+def _symmetric_part_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mode: str) -> str | None:
+    """Square sides whose difference is skew-symmetric: they agree in their symmetric
+    parts only (``2PBK`` written for ``PBK + (PBK)^\\top``, ``2A\\mathbf{x}`` for
+    ``(A + A^\\top)\\mathbf{x}`` without a matrix to name)."""
+    lhs = aligned.lhs
+    pos = lhs.pos_shape
+    if aligned.transposed:
+        return None
+    if len(pos) == 2 and pos[0] == pos[1] and not lhs.labels:
+        flip: Callable[[Value], Value] = compare._transpose
+    elif len(lhs.labels) == 2 and not pos:
+        flip = _swap_labels
+    else:
+        return None
+
+    def check(a: Aligned, m: str, dps: int) -> tuple[bool, float]:
+        if a.transposed or flip(a.lhs).data.shape != a.lhs.data.shape:
+            return False, 0.0
+        left = Value(a.lhs.data + flip(a.lhs).data, a.lhs.labels)
+        right = Value(a.rhs.data + flip(a.rhs).data, a.rhs.labels)
+        return compare.equal(Aligned(left, right), m, dps)
+
+    if _variant_holds(decider, assignments, mode, check):
+        return (
+            "the sides differ by a skew-symmetric matrix: only their symmetric parts agree "
+            "(is 2X written for X + X^\\top?)"
+        )
     return None
 
 
