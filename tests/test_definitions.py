@@ -296,3 +296,29 @@ def test_a_two_argument_definition_of_matrices_is_applied_later():
 def test_a_bracket_form_needs_plain_symbols_as_arguments():
     plan = document_context("$$\ng(x \\pm y) = x\n$$\n").plans[0]
     assert plan.defines is None and plan.parse_error is not None
+
+
+def test_a_definition_whose_sum_eats_its_free_index_names_its_line_and_the_elementwise_reading():
+    # Einstein's rule (common practice): in `r_i = w_i x_i` the i on the right is summed, so
+    # the right side has no free index while the left names i. A lens array's response
+    # written that way is meant elementwise: the message says where r is defined and how to
+    # say so. A definition whose body has no reading with free i gets no such advice.
+    text = (
+        "Responses $r_i = w_i x_i$ with $w, x \\in \\mathbb{R}^n$.\n"   # 1
+        "\n"
+        "$$\ns = \\sum_{i} r_i^2 = \\sum_{i} w_i^2 x_i^2\n$$\n"              # 4
+    )
+    steps = list(api.check_text(text, kind="md").steps())
+    assert [s.verdict for s in steps] == [Verdict.DEFINES, Verdict.INDEX_ERROR]
+    message = steps[1].outcome.message
+    assert "the definition of r at line 1 has free indices none but its left side names {i}" in message
+    assert "read elementwise they match" in message and "\\text{(no sum)}" in message
+
+    text = text.replace("r_i = w_i x_i", "r_i = w_j x_j")
+    steps = list(api.check_text(text, kind="md").steps())
+    assert [s.verdict for s in steps] == [Verdict.DEFINES, Verdict.INDEX_ERROR]
+    assert "the definition of r at line 1 has free indices none but its left side names {i}" in steps[1].outcome.message
+    assert "elementwise" not in steps[1].outcome.message
+
+    text = text.replace("r_i = w_j x_j", "r_i = w_i x_i \\quad \\text{(no sum)}")
+    assert [s.verdict for s in api.check_text(text, kind="md").steps()] == [Verdict.DEFINES, Verdict.HOLDS]

@@ -32,6 +32,7 @@ from .values import (
     ONE,
     ZERO,
     AnyValue,
+    EvaluationError,
     IndexMismatch,
     LazyValue,
     OutOfDomain,
@@ -340,11 +341,7 @@ class Lowerer(ArithmeticRules, FunctionRules):
             return value  # H = I - 11ᵀ/n takes its size where it is used
         if definition.indices:
             if set(value.labels) != set(definition.indices):
-                raise IndexMismatch(
-                    f"the definition of {definition.name} has free indices {sorted(value.labels)} "
-                    f"but its left side names {list(definition.indices)}",
-                    definition.span,
-                )
+                raise IndexMismatch(self._definition_index_text(definition, value, st), definition.span)
             value = value.with_labels(tuple(definition.indices))
             if not node.subs:
                 return labels_to_positional(value, node)
@@ -358,6 +355,28 @@ class Lowerer(ArithmeticRules, FunctionRules):
                 data = self._at_heights(definition.name, data, node.subs)
             return self.index_native(data, node.subs, st, node, positional=False)
         return self.index_positional(value, node.subs, st, node)
+
+    def _definition_index_text(self, definition: Definition, value: Value, st: State) -> str:
+        """Why a definition's free indices do not fit its left side, where it is, and the
+        elementwise reading when that reading fits (``r_i = w_i x_i`` meant without a sum)."""
+        where = definition.source.position(definition.span.start)
+        text = (
+            f"the definition of {definition.name} at line {where.line} has free indices "
+            f"{_index_set(value.labels)} but its left side names {_index_set(definition.indices)}"
+        )
+        if definition.no_sum or self._explicit(st):
+            return text
+        inner = State(frozen=st.frozen, keep=st.keep, definition=True, elementwise=True)
+        try:
+            elementwise = self.lower(definition.body, inner)
+        except EvaluationError:
+            return text
+        if isinstance(elementwise, Value) and set(elementwise.labels) == set(definition.indices):
+            text += (
+                "; read elementwise they match: if that is meant, annotate its row with "
+                "\\text{(no sum)} or add the directive `summation explicit`"
+            )
+        return text
 
     def _definition_value(self, definition: Definition, st: State, overrides: tuple) -> AnyValue:
         inner = State(frozen=st.frozen, keep=st.keep, overrides=overrides, definition=True, elementwise=definition.no_sum)
@@ -487,3 +506,7 @@ class Lowerer(ArithmeticRules, FunctionRules):
 _HANDLERS: dict[type, Callable[..., AnyValue]] = {
     cls: getattr(Lowerer, "lower_" + name) for name, cls in N.NODE_TYPES.items() if hasattr(Lowerer, "lower_" + name)
 }
+
+
+def _index_set(labels: tuple[str, ...] | list[str]) -> str:
+    return "{" + ", ".join(sorted(labels)) + "}" if labels else "none"
