@@ -163,3 +163,26 @@ def test_more_jobs_than_processors_give_the_same_report(tmp_path):
     many = pipeline.check_paths([str(path)], Settings(jobs=64, cache=False))
     assert many.to_dict() == one.to_dict()
     assert "timeout" not in [s.verdict.value for s in many.steps()]
+
+
+@pytest.mark.parametrize(
+    "rhs, hinted",
+    [
+        (r"\frac{2}{d}(x_k - \mu)", True),   # the scalar mean is constant along k
+        (r"\frac{1}{d}(x_k - \mu)", False),  # a lost factor 2: wrong in either reading
+    ],
+)
+def test_an_index_error_that_holds_elementwise_says_so_and_one_that_does_not_stays_silent(rhs, hinted):
+    # A greenhouse sensor's variance v = (1/d) sum_i (x_i - mu)^2 with the mean mu held
+    # fixed: d v / d x_k = (2/d)(x_k - mu) (sympy.diff agrees at d = 3). Under Einstein's rule
+    # `x_k - \mu` adds terms with different free indices (SPEC §7: an index-error); the hint
+    # names the explicit reading only when the step holds in it.
+    from stepcheck import api
+
+    text = "$x \\in \\mathbb{R}^d$\n\n$$\n\\frac{\\partial}{\\partial x_k} \\frac{1}{d}\\sum_{i} (x_i - \\mu)^2 = " + rhs + "\n$$\n"
+    steps = list(api.check_text(text, kind="md").steps())
+    assert [s.verdict for s in steps] == [Verdict.INDEX_ERROR]
+    hint = steps[0].outcome.hint or ""
+    assert ("holds when read without implicit summation" in hint) is hinted
+    if hinted:
+        assert "summation explicit" in hint and "\\text{(no sum)}" in hint

@@ -242,7 +242,8 @@ def _explicit_reading_hint(plan: StepPlan, settings: Settings) -> str | None:
     outcome = decide(plan.lhs, plan.rhs, plan.step.relation.kind, explicit, settings, relation_text=plan.step.relation.text)
     if outcome.verdict is Verdict.HOLDS:
         return (
-            "holds when read without implicit summation (repeated indices elementwise); if "
+            "holds when read without implicit summation (a repeated index elementwise, a term "
+            "without an index constant along it); if "
             "that is meant, add the directive `summation explicit` or annotate the row with "
             "\\text{(no sum)}"
         )
