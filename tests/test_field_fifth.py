@@ -5,7 +5,9 @@ blocks inside list items and block quotes, ```` ```math ```` fences, shapes decl
 (``$W \\in \\mathbb{R}^{d \\times k}$``), HTML-comment directives and two notebooks. Scenarios: a
 bin-picker attention head, an orchard-box recommender, a kiln-fault weighted logistic regression
 (notebook), a tidal-gauge RNN (notebook), a loom-defect layer norm, birdsong contrastive retrieval,
-milk-spectra PCA and whitening, and a glider-trim optimiser scratchpad.
+milk-spectra PCA and whitening, a glider-trim optimiser scratchpad, a ferry-boarding Poisson
+regression (Markdown `\\begin{align}` blocks, continuation rows, `\\quad\\text{so}\\quad` splits) and
+greenhouse sensor coupling in mixed index and matrix notation with a `summation explicit` section.
 
 Each document has a sidecar ``NAME.expected.json`` (keys ``line``, ``column``, ``verdict``, ``why``,
 optional ``cell`` and ``accept``; ``accept`` only where SPEC names no reading and the ``why`` says
