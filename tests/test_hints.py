@@ -39,6 +39,19 @@ HINTS = [
     pytest.param(r"\frac{\partial}{\partial \mathbf{w}} \tfrac14\|\mathbf{y} - X\mathbf{w}\|^2", r"(X\mathbf{w} - \mathbf{y})^\top X",
                  {"shapes": LSQ}, "the sides differ by a constant factor: the left side is 1/2 times the right side",
                  id="factor-half"),
+    # a camera-trap embedding's tempered score: d/dz (1/tau) log sum_j e^{z_j} = softmax(z)/tau
+    # (sympy.diff of the log-sum-exp; common practice); written without 1/tau
+    pytest.param(r"\nabla_{\mathbf{z}} \tfrac{1}{\tau}\log \sum_j e^{z_j}", r"\operatorname{softmax}(\mathbf{z})",
+                 {"shapes": {"z": ("n",)}}, "the sides differ by a factor: the left side is 1/\\tau times the right side",
+                 id="scalar-factor-lost"),
+    pytest.param(r"\nabla_{\mathbf{w}} \tfrac{\lambda}{2}\|\mathbf{w}\|^2", r"\mathbf{w}",
+                 {"shapes": {"w": ("d",)}}, "the sides differ by a factor: the left side is \\lambda times the right side",
+                 id="scalar-factor-weight-decay"),
+    # the mean-squared residual of a calibration fit: grad (1/2n)||Xw - y||^2 = (1/n) X^T(Xw - y)
+    # (The Matrix Cookbook, eq. 84 style; number recalled from memory); the 1/n lost
+    pytest.param(r"\nabla_{\mathbf{w}} \frac{1}{2n}\|X\mathbf{w} - \mathbf{y}\|^2", r"X^\top (X\mathbf{w} - \mathbf{y})",
+                 {"shapes": LSQ}, "the sides differ by a factor: the left side is 1/n times the right side",
+                 id="size-factor-lost"),
     pytest.param(r"\mathbf{x}^\top A \mathbf{y}", r"\mathbf{y}^\top A \mathbf{x}", {"shapes": SQUARE},
                  "holds if A is symmetric (A is not assumed symmetric: write A = A^\\top if it is)", id="symmetric"),
     pytest.param(r"\operatorname{tr}(A)", r"\det A", {"shapes": SQUARE}, "holds when n = 1 but not at the sizes tried", id="size-one"),
@@ -399,3 +412,10 @@ def test_a_named_symmetric_matrix_is_preferred_to_the_symmetric_parts():
     # recalled from memory): written 2Ax it holds if A is symmetric, which names the matrix
     outcome = decide_latex(r"\nabla_{\mathbf{x}} \mathbf{x}^\top A \mathbf{x}", r"2A\mathbf{x}", shapes=SQUARE)
     assert outcome.hint == "holds if A is symmetric (A is not assumed symmetric: write A = A^\\top if it is)"
+
+
+def test_a_factor_that_is_no_power_of_one_input_gets_no_factor_hint():
+    # e^{tau} is no fixed power of tau: the ratio hint must stay silent rather than guess
+    outcome = decide_latex(r"e^{\tau} \mathbf{w}", r"\mathbf{w}", shapes={"w": ("d",)})
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint is None or "factor" not in outcome.hint

@@ -207,6 +207,7 @@ def _first_hint(decider: Decider, model: Model, aligned: Aligned, mode: str) -> 
     tests: list[Callable[[], str | None]] = [
         lambda: _transpose_hint(decider, assignments, aligned, mode),
         lambda: _factor_hint(decider, assignments, aligned, mode),
+        lambda: _scalar_factor_hint(decider, assignments, aligned, mode),
         lambda: _free_indices_hint(decider, assignments, aligned, mode),
     ]
     structural = [
@@ -292,6 +293,94 @@ def _factor_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mo
     if c == -1:
         return "the sides differ by a sign: the left side is −1 times the right side"
     return f"the sides differ by a constant factor: the left side is {_number_text(c)} times the right side"
+
+
+#: Powers of a scalar input tried as the factor between the sides (τ, 1/τ, τ², 1/τ²).
+SCALAR_POWERS = (1, -1, 2, -2)
+
+
+def _scalar_factor_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mode: str) -> str | None:
+    """Sides whose ratio is a fixed number times a power of one scalar input, or of one
+    named size, on every draw: a temperature ``1/\\tau``, a step size or the ``1/n`` of a
+    mean lost or doubled."""
+    from .deciding import AssignmentOutOfDomain
+
+    if aligned.transposed:
+        return None
+    scalars = [
+        name for name, spec in decider.analysis.inputs.items()
+        if not spec.axes and spec.family is None and not spec.chain_variable
+    ]
+    draws: list[tuple[float, dict[str, float]]] = []
+    rng = random.Random(decider.settings.seed + 11)
+    whatever: Check = lambda a, m, dps: (True, 0.0)
+    try:
+        for sizes in assignments[:3]:  # swapped sizes (2, 3) and (3, 2) alone confuse 1/n with d/6
+            model = decider.model(sizes)
+            named = {key[1]: float(size) for key, size in sizes.items() if key[0] == "dim" and isinstance(key[1], str)}
+            try:
+                for trial in decider.trials(model, rng, VARIANT_DRAWS, mode, whatever):
+                    r = _loose_ratio(trial.aligned, mode, trial.dps)
+                    if r is None:
+                        return None
+                    values = {n: complex(sympy.N(trial.env.values[n].item())) for n in scalars}
+                    values = {n: v.real for n, v in values.items() if not v.imag}
+                    draws.append((r, {**named, **values}))
+            except AssignmentOutOfDomain:
+                continue
+    except (EvaluationError, NeedFloat, TypeError, ValueError):
+        return None
+    if len(draws) < 2:
+        return None
+    candidates = list(dict.fromkeys(n for _, v in draws for n in v))
+    fits = []
+    for name in candidates:
+        if len({v.get(name) for _, v in draws}) < 2:
+            continue  # one value throughout: a constant factor, or nothing to tell
+        for k in SCALAR_POWERS:
+            coefficients = [r / v[name] ** k for r, v in draws if v.get(name)]
+            if len(coefficients) < len(draws) or len({round(c, 9) for c in coefficients}) != 1:
+                continue
+            c = sympy.nsimplify(sympy.Float(coefficients[0], 15), rational=True, tolerance=1e-9)
+            if isinstance(c, sympy.Rational) and c.q <= 100:
+                fits.append(_power_text(c, name, k))
+    if len(fits) != 1:
+        return None  # none, or the draws cannot tell two factors apart
+    return f"the sides differ by a factor: the left side is {fits[0]} times the right side"
+
+
+def _power_text(c: sympy.Rational, name: str, k: int) -> str:
+    """``c·name^k`` as a reader writes it: ``\\tau``, ``1/n``, ``2/\\tau^{2}``, ``−3n``."""
+    power = name if abs(k) == 1 else f"{name}^{{{abs(k)}}}"
+    if k > 0:
+        number = "" if c == 1 else "−" if c == -1 else _number_text(c) + " "
+        return number + power
+    if c.q == 1:
+        return f"{_number_text(c)}/{power}"
+    return f"{_number_text(c)} · 1/{power}"
+
+
+def _loose_ratio(aligned: Aligned, mode: str, dps: int) -> float | None:
+    """The number c with lhs = c·rhs on this draw to nine digits, or None: a ratio that
+    varies from draw to draw is the question here, not the last digits of a fast draw."""
+    if aligned.transposed:
+        return None
+    if mode == "exact":
+        a = [float(x) for x in compare.exact_entries(aligned.lhs)]
+        b = [float(y) for y in compare.exact_entries(aligned.rhs)]
+    else:
+        a = [float(x) for x in compare.float_entries(aligned.lhs, dps)]
+        b = [float(y) for y in compare.float_entries(aligned.rhs, dps)]
+    if not b:
+        return None
+    k = max(range(len(b)), key=lambda i: abs(b[i]))
+    scale = max(abs(v) for v in a + b)
+    if b[k] == 0 or scale == 0:
+        return None
+    c = a[k] / b[k]
+    if any(abs(x - c * y) > 1e-9 * scale for x, y in zip(a, b)):
+        return None
+    return c
 
 
 def _same_ratio(a: Any, b: Any) -> bool:
