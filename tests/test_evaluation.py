@@ -694,3 +694,18 @@ def test_no_simplification_is_attempted_when_a_draw_already_shows_a_difference(m
     assert attempts == []
     assert decide_latex(r"\sin(2a)", r"2\sin a\cos a").method is Method.SYMBOLIC
     assert attempts, "a true identity is still proved"
+
+
+def test_a_draw_that_cancels_below_working_precision_is_evaluated_again_with_more_digits():
+    # sigma(x) + sigma(-x) = 1 (common practice), so e^{150}(sigma(150 + a) - 1) equals
+    # -e^{150} sigma(-150 - a); near a = 0, 1 - sigma(150 + a) is about 1e-65: zero at 30 and at
+    # 60 digits alike. mpmath at 300 digits confirms the size of the cancelled term.
+    import mpmath
+
+    with mpmath.workdps(300):
+        assert 1e-66 < 1 - 1 / (1 + mpmath.exp(-150)) < 1e-64
+    holds = decide_latex(r"e^{150}(\sigma(150 + a) - 1) y_j", r"-e^{150}\sigma(-150 - a) y_j", shapes={"y": ("m",)})
+    assert holds.verdict is Verdict.HOLDS, holds.message
+    assert "120 where cancellation needed them" in holds.message or "240 where cancellation needed them" in holds.message
+    wrong = decide_latex(r"e^{150}(\sigma(150 + a) - 1) y_j", r"-e^{150}\sigma(-150 - a) y_j / 2", shapes={"y": ("m",)})
+    assert wrong.verdict is Verdict.FAILS

@@ -38,16 +38,7 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-KNOWN: dict[str, str] = {
-    "kiln-fault-logistic.ipynb#cell4:10:24": (
-        "false failure: large random logits (w = 25) push 1 - p below 30-digit precision, the "
-        "Hessian of the log-loss loses every digit, and a spurious transpose hint is given"
-    ),
-    "kiln-fault-logistic.ipynb#cell4:16:56": (
-        "same precision loss in the componentwise Hessian; the hint about swapping j and k is "
-        "spurious (both sides are symmetric)"
-    ),
-}
+KNOWN: dict[str, str] = {}
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
 KNOWN_EXTRA: dict[str, str] = {}
