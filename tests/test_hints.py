@@ -419,3 +419,13 @@ def test_a_factor_that_is_no_power_of_one_input_gets_no_factor_hint():
     outcome = decide_latex(r"e^{\tau} \mathbf{w}", r"\mathbf{w}", shapes={"w": ("d",)})
     assert outcome.verdict is Verdict.FAILS
     assert outcome.hint is None or "factor" not in outcome.hint
+
+
+def test_a_draw_where_both_sides_vanish_does_not_hide_the_sign_hint():
+    # An optimiser's moving average m' = beta m + (1 - beta) g gives m' - m = (1 - beta)(g - m)
+    # (common practice); written (1 - beta)(m - g) it is off by a sign. With beta > 0 the draws
+    # include beta = 1, where both sides are zero and say nothing about the factor.
+    outcome = decide_latex(r"\hat{m} - m", r"(1 - \beta)(m - g)", shapes={"m": ("p",), "g": ("p",)},
+                           assumptions={"\\beta": {"positive"}}, definitions={"\\hat{m}": r"\beta m + (1 - \beta) g"})
+    assert outcome.verdict is Verdict.FAILS
+    assert outcome.hint == "the sides differ by a sign: the left side is −1 times the right side"

@@ -287,7 +287,9 @@ def _factor_hint(decider: Decider, assignments: list[dict], aligned: Aligned, mo
         return None
     if c is None:
         return None
-    check: Check = lambda a, m, dps: (not a.transposed and _same_ratio(compare.ratio(a, m, dps), c), 0.0)
+    check: Check = lambda a, m, dps: (
+        not a.transposed and (_both_zero(a, m, dps) or _same_ratio(compare.ratio(a, m, dps), c)), 0.0
+    )
     if not _variant_holds(decider, assignments, mode, check):
         return None
     if c == -1:
@@ -320,6 +322,8 @@ def _scalar_factor_hint(decider: Decider, assignments: list[dict], aligned: Alig
             named = {key[1]: float(size) for key, size in sizes.items() if key[0] == "dim" and isinstance(key[1], str)}
             try:
                 for trial in decider.trials(model, rng, VARIANT_DRAWS, mode, whatever):
+                    if _both_zero(trial.aligned, mode, trial.dps):
+                        continue  # β = 1 in (1 - β)(m - g): any factor fits a draw where both sides vanish
                     r = _loose_ratio(trial.aligned, mode, trial.dps)
                     if r is None:
                         return None
@@ -358,6 +362,17 @@ def _power_text(c: sympy.Rational, name: str, k: int) -> str:
     if c.q == 1:
         return f"{_number_text(c)}/{power}"
     return f"{_number_text(c)} · 1/{power}"
+
+
+def _both_zero(aligned: Aligned, mode: str, dps: int) -> bool:
+    """Whether every entry of both sides is zero on this draw (it tells nothing of a factor)."""
+    if aligned.transposed:
+        return False
+    if mode == "exact":
+        entries = compare.exact_entries(aligned.lhs) + compare.exact_entries(aligned.rhs)
+    else:
+        entries = compare.float_entries(aligned.lhs, dps) + compare.float_entries(aligned.rhs, dps)
+    return not any(entries)
 
 
 def _loose_ratio(aligned: Aligned, mode: str, dps: int) -> float | None:
