@@ -382,7 +382,8 @@ def _matrix_side_matches(
 
 
 _EXPLICIT_HINT = (
-    "read without implicit summation (repeated indices elementwise) the indices balance; "
+    "read without implicit summation (a repeated index elementwise, a term without an index "
+    "constant along it) the indices balance; "
     "if that is meant, add the directive `summation explicit` or annotate the row "
     "with \\text{(no sum)}"
 )

@@ -382,9 +382,15 @@ class Lowerer(ArithmeticRules, FunctionRules):
         inner = State(frozen=st.frozen, keep=st.keep, overrides=overrides, definition=True, elementwise=definition.no_sum)
         key = (definition.name, inner.cache_key())
         if key not in self._definition_cache:
-            value = self.lower(definition.body, inner)
-            if isinstance(value, LazyValue) and value.kind == "zero":
-                value = self.lower_value(definition.body, inner)
+            try:
+                value = self.lower(definition.body, inner)
+                if isinstance(value, LazyValue) and value.kind == "zero":
+                    value = self.lower_value(definition.body, inner)
+            except (IndexMismatch, ShapeMismatch) as e:
+                if e.message.startswith("in the definition of "):
+                    raise
+                where = definition.source.position(definition.span.start)
+                raise type(e)(f"in the definition of {definition.name} at line {where.line}: {e.message}", e.span) from e
             self._definition_cache[key] = value
         return self._definition_cache[key]
 
