@@ -116,6 +116,47 @@ def test_an_inverted_law_that_reaches_its_own_symbol_is_checked():
     assert verdicts == [Verdict.DEFINES, Verdict.HOLDS, Verdict.HOLDS]
 
 
+def test_a_display_definition_of_varepsilon_makes_it_an_ordinary_tensor():
+    # a hub flange's small strain: the symmetric part of the displacement gradient (textbook
+    # linear elasticity), so its trace is the gradient's trace and it is symmetric; SPEC §7:
+    # a definition makes \\varepsilon_{ij} an ordinary tensor, not the Levi-Civita symbol
+    text = (
+        "$H \\in \\mathbb{R}^{3\\times 3}$\n"
+        "\\begin{align}\n"
+        "  \\varepsilon_{ij} &= \\tfrac{1}{2}\\left(H_{ij} + H_{ji}\\right), \\\\\n"
+        "  \\varepsilon_{kk} &= H_{kk}, \\\\\n"
+        "  \\varepsilon_{ij} - \\varepsilon_{ji} &= 0\n"
+        "\\end{align}\n"
+    )
+    context = document_context(text, "tex")
+    assert context.plans[0].defines is not None and context.plans[0].defines.name == "\\varepsilon"
+    assert context.plans[0].defines.indices == ("i", "j")
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.DEFINES, Verdict.HOLDS, Verdict.HOLDS]
+
+
+def test_a_display_definition_of_the_kronecker_delta_letter_makes_it_ordinary():
+    # an error signal with two indices, delta_ij = y_i x_j - T_ij (common practice in network
+    # notes): defined, so not the Kronecker delta; a component of it is checked as such
+    text = (
+        "$\\mathbf{y} \\in \\mathbb{R}^{3}$, $\\mathbf{x} \\in \\mathbb{R}^{2}$, $T \\in \\mathbb{R}^{3\\times 2}$\n"
+        "\\[ \\delta_{ij} = y_i x_j - T_{ij} \\]\n"
+        "\\[ \\delta_{i1} = y_i x_1 - T_{i1} \\]\n"
+        "\\[ \\delta_{ij} x_j = y_i x_j x_j - T_{ij} x_j \\]\n"
+    )
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.DEFINES, Verdict.HOLDS, Verdict.HOLDS]
+
+
+def test_an_identity_of_the_levi_civita_symbol_is_checked_not_a_definition():
+    # textbook: the Levi-Civita symbol is antisymmetric in every pair of indices
+    text = "\\[ \\epsilon_{ijk} = -\\epsilon_{jik} \\]\n\\[ \\epsilon_{ijk} = \\epsilon_{jik} \\]\n"
+    context = document_context(text, "tex")
+    assert [p.defines for p in context.plans] == [None, None]
+    verdicts = [s.verdict for s in api.check_text(text, kind="tex").steps()]
+    assert verdicts == [Verdict.HOLDS, Verdict.FAILS]
+
+
 def test_a_left_side_with_a_repeated_index_is_a_contraction_not_a_definition():
     # a seal's deviatoric strain is traceless in three dimensions (textbook identity)
     text = (

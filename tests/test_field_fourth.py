@@ -62,15 +62,6 @@ KNOWN: dict[str, str] = {
         "w_hat's chain (argmin = closed form) is dropped as unsupported, so w_hat is drawn at random "
         "and a true optimality condition fails instead of holds/unsupported"
     ),
-    "rotor-hub-cross-products.tex:45:23": (
-        "display definition of \\varepsilon_{ij} is not taken as making it an ordinary tensor; read as a "
-        "2-index Levi-Civita symbol, then 'index i ranges over both 2 and 3' (SPEC section 7 says a definition suffices)"
-    ),
-    "rotor-hub-cross-products.tex:46:23": "same: \\varepsilon_{kk} read as a 2-D Levi-Civita symbol against a 3x3 H",
-    "rotor-hub-cross-products.tex:47:42": (
-        "same: \\varepsilon_{ij} - \\varepsilon_{ji} checked as a 2-D Levi-Civita symbol, so a true step fails"
-    ),
-    "rotor-hub-cross-products.tex:48:39": "same misreading of the defined strain gives shape-error instead of fails",
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -216,6 +216,9 @@ def _is_definition(
         return True
     if index != 1 or relation.kind is not RelationKind.EQUAL:
         return False
+    special = defs.special_kind(lhs)
+    if special is not None and defs.mentions_special(rhs, special):
+        return False  # \epsilon_{ijk} = -\epsilon_{jik}: an identity of the special tensor, checked
     if defs.reaches(form.name, rhs, earlier):
         return False  # \Omega_{ji} = -\Omega_{ij}, or an inverted law: a claim to check
     if not item.display:

@@ -96,6 +96,8 @@ def definition_form(tree: n.Node, side: Side, source: SourceText, read: Reader) 
     name = symbol_name(tree)
     if name is not None:
         return Form(name, (), ())
+    if isinstance(tree, tuple(_SPECIALS)):
+        return _special_form(tree, side)
     if isinstance(tree, n.Apply):
         if not tree.user:
             return None  # tr(S), \det(A), \log(x), \sigma(z): a built-in meaning, checked
@@ -104,6 +106,39 @@ def definition_form(tree: n.Node, side: Side, source: SourceText, read: Reader) 
             return Form(tree.func, (), params)
         return None
     return bracket_form(side, source, read)
+
+
+#: Special tensors a definition turns into ordinary ones (SPEC §7), and the names they are
+#: written with.
+_SPECIALS: dict[type, tuple[str, ...]] = {
+    n.Delta: ("\\delta",),
+    n.LeviCivita: ("\\epsilon", "\\varepsilon"),
+}
+
+
+def _special_form(tree: n.Delta | n.LeviCivita, side: Side) -> Form | None:
+    """``\\varepsilon_{ij}`` or ``\\delta_{ij}`` alone on a left side, with distinct index
+    subscripts: the symbol the step may define (SPEC §7: a definition makes it an ordinary
+    tensor).  The name is the command the side is written with."""
+    names = [s.name for s in tree.subs if isinstance(s, n.Index)]
+    if len(names) != len(tree.subs) or len(set(names)) != len(names):
+        return None
+    written = [t.text for t in side.tokens if t.is_command(*_SPECIALS[type(tree)])]
+    if len(written) != 1:
+        return None
+    return Form(written[0], tuple(names), ())
+
+
+def mentions_special(tree: n.Node, kind: type) -> bool:
+    """Whether a tree holds a special tensor of the given node class (``\\epsilon_{jik}``
+    on the right of ``\\epsilon_{ijk} = -\\epsilon_{jik}``: an identity to check, not a
+    definition)."""
+    return any(isinstance(item, kind) for item in tree.walk())
+
+
+def special_kind(tree: n.Node | None) -> type | None:
+    """The special-tensor node class of a left side, or None."""
+    return type(tree) if isinstance(tree, tuple(_SPECIALS)) else None
 
 
 #: Commands whose braced argument is an operator's name (``\\operatorname{Cov}``).
