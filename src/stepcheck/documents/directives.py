@@ -42,6 +42,9 @@ class Directive:
     """Document order (shared with math blocks)."""
     at_row_end: bool = False
     """A LaTeX comment ending a display row: ``skip`` applies to that row only."""
+    implied: bool = False
+    """Not written by the author but implied by the math (a ``label k`` for a letter that counts
+    time steps, rule ``subscript-time-label``); ``span`` is where the math implies it."""
 
 
 # -- finding directive comments (readers) ---------------------------------------

@@ -22,6 +22,7 @@ from typing import TYPE_CHECKING, Callable, TypeVar
 from ..source import Span
 from . import nodes as n
 from ._stream import describe as _describe
+from .timesteps import time_subscript
 from .tokens import Token, TokenKind
 from .vocabulary import (
     ACCENTS,
@@ -319,6 +320,9 @@ class SymbolReading:
         :raises ParseError: an arithmetic or otherwise unreadable subscript.
         """
         toks = self.s.tokens
+        time = self._time_entry(script, strict)
+        if time is not None:
+            return [time]
         pieces = _split_commas(toks, script.start, script.end, self.s.match)
         comma = len(pieces) > 1
         entries: list[Entry] = []
@@ -335,6 +339,32 @@ class SymbolReading:
                 )
             entries.extend(run)
         return self._zero_rule(entries, comma, script)
+
+    def _time_entry(self, script: Script, strict: bool) -> Entry | None:
+        """Rule ``subscript-time-label``: ``P_{k|k-1}``, ``x_{t+1}`` name a symbol when their
+        letters count time steps (labels, declared or implied by the document).
+
+        :raises ParseError: index arithmetic on a letter that is an index (``x_{i-1}``), when strict.
+        """
+        toks = self.s.tokens[script.start : script.end]
+        time = time_subscript(toks)
+        if time is None:
+            return None
+        label, letters = time
+        others = sorted(letters - self.vocab.labels)
+        if others:
+            if not strict:
+                return None
+            names = ", ".join(others)
+            raise self.s.error(
+                f"the subscript '{self.s.text_of(script.span)}' at {self.s.where(script.span)} is not read: "
+                f"index arithmetic on the index {names} is not checked; if {names} counts steps (a time step), "
+                f"add `% stepcheck: label {' '.join(others)}` and the subscript becomes part of the name",
+                script.span,
+            )
+        span = toks[0].span.join(toks[-1].span)
+        self.note("subscript-time-label", span, f"{label} is a time step, part of the name")
+        return Entry(None, label, span)
 
     def _entry_run(self, a: int, b: int, comma: bool, up: bool) -> list[Entry] | None:
         toks = self.s.tokens
@@ -382,7 +412,7 @@ class SymbolReading:
     def _name_entry(self, t: Token, up: bool) -> Entry:
         name = t.text
         if name in self.vocab.labels:
-            self.note("subscript-label", t.span, f"{name} is a declared label, part of the name")
+            self.note("subscript-label", t.span, f"{name} is a label (declared, or a letter counting time steps), part of the name")
             return Entry(None, name, t.span)
         if is_index_name(name, self.vocab):
             return Entry(n.Index(name, up, t.span), None, t.span)

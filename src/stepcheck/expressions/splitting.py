@@ -24,6 +24,7 @@ from .rows import (
     split_rows,
 )
 from .relations import span_of
+from .timesteps import time_letters
 from .tokens import MathSyntaxError, Token, TokenKind, tokenize
 
 logger = logging.getLogger(__name__)
@@ -86,6 +87,7 @@ class _Builder:
         for problem in self.document.problems:
             self.entries.append(_Entry(problem.source, problem.order, DraftError(problem.message, problem.span)))
         chains, unreadable = self._number()
+        self._time_labels()
         return Structure(
             chains=tuple(chains),
             inline_chains=tuple(self.inline_chains),
@@ -120,6 +122,16 @@ class _Builder:
                 # Also from within a display: it then holds for the later blocks too.
                 switches.toggles.append((result.order, result.word is DirectiveWord.OFF))
         return switches
+
+    def _time_labels(self) -> None:
+        """Implied ``label`` directives for letters that count time steps (rule ``subscript-time-label``)."""
+        indices = frozenset(a for d in self.directives if d.word is DirectiveWord.INDEX for a in d.args)
+        labels = frozenset(a for d in self.directives if d.word is DirectiveWord.LABEL for a in d.args)
+        for found in time_letters(self.rows, indices):
+            if found.letter not in labels:
+                self.directives.append(
+                    Directive(DirectiveWord.LABEL, (found.letter,), found.source, found.span, found.order, implied=True)
+                )
 
     def _math_directive(self, directive: MathDirective) -> None:
         excerpt = Excerpt(directive.body, (0,), (directive.span.start,))

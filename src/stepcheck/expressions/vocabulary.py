@@ -64,6 +64,13 @@ AMBIGUITY_RULES: dict[str, str] = {
         "single lowercase Latin letters that are not dimensions, functions or labels, and "
         "declared index names, are index subscripts"
     ),
+    "subscript-time-label": (
+        "a subscript of time steps, with a bar or a shift (P_{k|k-1}, \\hat{x}_{k|k}, P_{k-1|k-1}, "
+        "x_{t+1}), is part of the symbol's name, so P_{k|k-1} and P_{k-1|k-1} are two symbols; its "
+        "letters (k, t) are then labels in the whole document (K_k is a name), unless the document "
+        "sums over them, writes them in a superscript or declares them indices; index arithmetic on "
+        "an index (x_{i-1} under \\sum_i) is not read"
+    ),
     "subscript-dimension": "a dimension letter in a subscript is a fixed component: x_n is the n-th (last)",
     "subscript-digits": (
         "each digit of a subscript is one component (A_{12} = row 1, column 2); "
