@@ -7,12 +7,13 @@ the delimiter after it, which remembers whether it was sized to open or to close
 
 from __future__ import annotations
 
+import unicodedata
 from dataclasses import dataclass
 from typing import Sequence
 
 from ..source import SourceText, Span
 from .errors import ParseError, UnsupportedConstruct
-from .tokens import Token, TokenKind
+from .tokens import PASTED_ADVICE, Token, TokenKind
 from .vocabulary import (
     ACCENTS, BOLD_FONTS, DROPPED, FRACTIONS, NAMED_FONTS, NOT_READ_SYMBOLS, PLAIN_FONTS, SIZING, SPACING, UNSUPPORTED,
     UNSUPPORTED_SYMBOLS,
@@ -226,7 +227,17 @@ def describe(tok: Token) -> str:
         return f"'\\end{{{tok.text}}}'"
     if tok.kind is TokenKind.PARAM:
         return f"macro parameter '#{tok.text}'"
+    if tok.kind is TokenKind.SYMBOL and len(tok.text) == 1 and not tok.text.isascii():
+        return _pasted(tok.text)
     return f"'{tok.text}'"
+
+
+def _pasted(ch: str) -> str:
+    """A non-ASCII character as an error names it: its code point, its name and what to write."""
+    name = unicodedata.name(ch, "")
+    code = f"U+{ord(ch):04X}" + (f" {name}" if name else "")
+    advice = PASTED_ADVICE.get(ch, "its LaTeX command")
+    return f"'{ch}' ({code}; write {advice})"
 
 
 def _skip_group(tokens: Sequence[Token], i: int) -> int:

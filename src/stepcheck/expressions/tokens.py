@@ -107,6 +107,45 @@ _EXTRA_MACROS = [
 _context_db = None
 
 
+#: Characters pasted from rich text that have one plain LaTeX meaning, read as that meaning
+#: (the token keeps the character's span, so messages quote what the author wrote).  Only
+#: characters with no other reading in math are here; others (``…``, ``∂``) are not read and
+#: the parse error names them (:data:`PASTED_ADVICE`).
+PASTED_CHARACTERS: dict[str, tuple[TokenKind, str]] = {
+    "\u2212": (TokenKind.SYMBOL, "-"),  # − minus sign
+    "\u00d7": (TokenKind.COMMAND, "\\times"),  # × multiplication sign
+    "\u00b7": (TokenKind.COMMAND, "\\cdot"),  # · middle dot
+    "\u22c5": (TokenKind.COMMAND, "\\cdot"),  # ⋅ dot operator
+    "\u2264": (TokenKind.COMMAND, "\\le"),  # ≤
+    "\u2265": (TokenKind.COMMAND, "\\ge"),  # ≥
+    "\u2260": (TokenKind.COMMAND, "\\neq"),  # ≠
+    "\u2248": (TokenKind.COMMAND, "\\approx"),  # ≈
+}
+
+#: Pasted characters the reader does not read, with what to write instead (for the parse error).
+PASTED_ADVICE: dict[str, str] = {
+    "\u2026": "\\ldots (an ellipsis is not checked) or write the terms out",  # …
+    "\u22ef": "\\cdots (an ellipsis is not checked) or write the terms out",  # ⋯
+    "\u2202": "\\partial",  # ∂
+    "\u2207": "\\nabla",  # ∇
+    "\u2211": "\\sum",  # ∑
+    "\u220f": "\\prod",  # ∏
+    "\u221a": "\\sqrt{...}",  # √
+    "\u2297": "\\otimes",  # ⊗
+    "\u2299": "\\odot",  # ⊙
+    "\u2218": "\\circ",  # ∘
+    "\u2217": "\\cdot, or put the factors side by side",  # ∗
+    "\u2208": "\\in",  # ∈
+    "\u22a4": "^\\top",  # ⊤
+    "\u2032": "' (an apostrophe) or ^\\top for a transpose",  # ′
+    "\u2016": "\\| (a norm bar)",  # ‖
+    "\u2013": "- (a hyphen-minus)",  # – en dash
+    "\u2014": "- (a hyphen-minus)",  # — em dash
+    "\u2061": "nothing (an invisible function application mark)",
+    "\u2062": "nothing (an invisible times mark)",
+}
+
+
 def latex_context():
     """The pylatexenc context used for math: the defaults plus text-argument commands."""
     global _context_db
@@ -336,7 +375,8 @@ def _split_chars(chars: str) -> Iterator[tuple[TokenKind | None, str, int, int]]
             yield TokenKind.SUP, ch, i, i + 1
             i += 1
         else:
-            yield TokenKind.SYMBOL, ch, i, i + 1
+            kind, text = PASTED_CHARACTERS.get(ch, (TokenKind.SYMBOL, ch))
+            yield kind, text, i, i + 1
             i += 1
 
 
