@@ -363,3 +363,33 @@ def test_a_definition_whose_sum_eats_its_free_index_names_its_line_and_the_eleme
 
     text = text.replace("r_i = w_j x_j", "r_i = w_i x_i \\quad \\text{(no sum)}")
     assert [s.verdict for s in api.check_text(text, kind="md").steps()] == [Verdict.DEFINES, Verdict.HOLDS]
+
+
+def test_a_symbol_whose_chain_starts_with_an_unsupported_step_takes_the_closed_form():
+    # a footbridge sensor fit: the ridge estimate's normal equations (textbook least squares:
+    # w = (X^T X + rho I)^{-1} X^T y satisfies X^T (y - X w) = rho w)
+    text = (
+        "\\DeclareMathOperator*{\\argmin}{arg\\,min}\n"
+        "$X \\in \\mathbb{R}^{n\\times d}$, $\\mathbf{y} \\in \\mathbb{R}^{n}$, $\\rho > 0$\n"
+        "\\[ \\hat{w} = \\argmin_{w} J(w) = (X^\\top X + \\rho I)^{-1} X^\\top \\mathbf{y} \\]\n"
+        "\\[ X^\\top(\\mathbf{y} - X\\hat{w}) = \\rho\\,\\hat{w} \\]\n"
+        "\\[ X^\\top(\\mathbf{y} - X\\hat{w}) = 2\\rho\\,\\hat{w} \\]\n"
+    )
+    context = document_context(text, "tex")
+    definition = plan_at(context, 4).context.definitions["\\hat{w}"]
+    assert {x.name for x in definition.body.walk() if isinstance(x, n.Symbol)} == {"X", "y", "\\rho"}
+    steps = api.check_text(text, kind="tex").steps()
+    assert [s.verdict for s in steps] == [Verdict.UNSUPPORTED, Verdict.UNSUPPORTED, Verdict.HOLDS, Verdict.FAILS]
+    assert "takes the chain's later side `(X^\\top X + \\rho I)^{-1} X^\\top \\mathbf{y}`" in steps[0].outcome.message
+    assert steps[3].outcome.counterexample["defined"]  # the value comes from the closed form
+
+
+def test_an_unreadable_chain_after_an_unsupported_step_gives_no_value():
+    # a typo after the unsupported member: nothing in the chain is trusted as the value
+    text = (
+        "\\DeclareMathOperator*{\\argmin}{arg\\,min}\n"
+        "\\[ \\hat{w} = \\argmin_{w} J(w) \\le (X^\\top X)^{-1} X^\\top y \\]\n"
+        "\\[ \\hat{w} = \\hat{w} \\]\n"
+    )
+    context = document_context(text, "tex")
+    assert "\\hat{w}" not in plan_at(context, 3).context.definitions

@@ -58,10 +58,6 @@ KNOWN: dict[str, str] = {
     "tower-modal-rayleigh.tex:43:6": (
         "same unread premise V^T M V = I: gradient 2c - 2g refuted with a premise-violating V"
     ),
-    "truss-calibration-lsq.tex:42:31": (
-        "w_hat's chain (argmin = closed form) is dropped as unsupported, so w_hat is drawn at random "
-        "and a true optimality condition fails instead of holds/unsupported"
-    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -16,6 +16,7 @@ from typing import Callable, Iterable, Sequence
 from . import __version__
 from .cache import StepCache, step_key
 from .checks.indices import check_indices
+from .checks.specials import levi_civita_note
 from .context.build import DocumentContext, StepPlan, build_context
 from .documents import discover, read_path, read_text
 from .documents.model import Document
@@ -178,7 +179,7 @@ def decide_plan(plan: StepPlan, settings: Settings, cache: StepCache | None = No
         prepare_evaluator()
     try:
         with time_limit(settings.timeout):
-            return _decide(plan, settings, cache)
+            return _with_reading_note(plan, _decide(plan, settings, cache))
     except StepTimeout:
         return Outcome(Verdict.TIMEOUT, message=f"the step ran past its time limit of {settings.timeout:g} s")
 
@@ -193,6 +194,10 @@ def _decide(plan: StepPlan, settings: Settings, cache: StepCache | None = None) 
     if plan.parse_error is not None:
         message, span = plan.parse_error
         verdict = Verdict.UNSUPPORTED if plan.refused else Verdict.PARSE_ERROR
+        if plan.defines is not None and plan.refused:
+            # \hat{w} = \argmin … = closed form: the chain's readable member is the value
+            value = plan.defines.source.slice(plan.defines.body.span).strip()
+            message = f"{message}; {plan.defines.name} takes the chain's later side `{value}` as its value"
         return Outcome(verdict, message=message, column=span.start)
     assert plan.lhs is not None and plan.rhs is not None
     relation = step.relation.kind
@@ -219,6 +224,17 @@ def _decide(plan: StepPlan, settings: Settings, cache: StepCache | None = None) 
     if cache is not None and key is not None:
         cache.put(key, outcome)
     return outcome
+
+
+def _with_reading_note(plan: StepPlan, outcome: Outcome) -> Outcome:
+    """An error that may come from reading ``\\varepsilon_{ij}`` as the Levi-Civita symbol
+    says so in its message (SPEC §7)."""
+    if plan.lhs is None or plan.rhs is None:
+        return outcome
+    note = levi_civita_note(outcome.verdict, (plan.lhs, plan.rhs), plan.findings, plan.step.source)
+    if note is None or note in outcome.message:
+        return outcome
+    return replace(outcome, message=f"{outcome.message}; {note}" if outcome.message else note)
 
 
 def _balances_explicitly(plan: StepPlan) -> bool:

@@ -184,6 +184,8 @@ def _collect_definitions(read: Sequence[ReadChain]) -> dict[StepKey, Definition]
         reader = _reader(item.vocabulary)
         for index in range(1, len(chain.sides)):
             lhs, rhs = item.trees[index - 1], item.trees[index]
+            if rhs is None and index == 1:
+                rhs = _closed_member(item)
             if rhs is None:
                 continue
             side = chain.sides[index - 1]
@@ -203,6 +205,24 @@ def _collect_definitions(read: Sequence[ReadChain]) -> dict[StepKey, Definition]
             found[_key(chain, index)] = definition
             latest[form.name] = definition
     return found
+
+
+def _closed_member(item: ReadChain) -> Node | None:
+    """The value a chain gives its first member when the second side is a construct the tool
+    knows but does not check (``\\hat{w} = \\argmin_w J(w) = (X^\\top X + \\rho I)^{-1}
+    X^\\top y``): the first later side that could be read, when every relation up to it is
+    ``=``.  The chain asserts that the members are equal, so that side is the symbol's value
+    (SPEC §4); the steps before it stay ``unsupported``.  None when there is no such side."""
+    if not item.refused or not item.refused[1]:
+        return None
+    for k in range(2, len(item.trees)):
+        if item.chain.relations[k - 1].kind is not RelationKind.EQUAL:
+            return None
+        if item.trees[k] is not None:
+            return item.trees[k]
+        if not item.refused[k]:
+            return None  # a side that is not even read: nothing after it is trusted
+    return None
 
 
 def _is_definition(
@@ -277,10 +297,12 @@ def _units(
     for item in read:
         for index in range(1, len(item.chain.sides)):
             lhs, rhs = item.trees[index - 1], item.trees[index]
-            if lhs is None or rhs is None:
-                continue
             key = _key(item.chain, index)
             definition = definitions.get(key)
+            if rhs is None and definition is not None:
+                rhs = definition.body  # \hat{w} = \argmin … = closed form: its value, for its shape
+            if lhs is None or rhs is None:
+                continue
             # W = diag(w) both defines and assumes: its sides are compared like any
             # definition's, so W takes the diag's square shape
             assumes = definition is None and (key in assumed or _assumption(item, index, defined) is not None)
