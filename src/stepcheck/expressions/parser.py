@@ -34,6 +34,7 @@ from ..context.model import Vocabulary
 from ..source import SourceError, SourceText, Span
 from . import nodes as n
 from ._brackets import BracketReading
+from ._calls import call_spans, whole_calls
 from ._calculus import CalculusReading
 from ._functions import FunctionReading
 from ._building import SymbolBuilding
@@ -126,7 +127,7 @@ def read_side(tokens: Sequence[Token], vocabulary: Vocabulary, source: SourceTex
     try:
         with _recursion_room(MAX_DEPTH * _FRAMES_PER_LEVEL):
             reader = Reader(tokens, vocabulary, source)
-            node = reader.read()
+            node = whole_calls(reader.read(), call_spans(tokens))
     except ParseError:
         raise
     except RecursionError as exc:
