@@ -73,6 +73,7 @@ IMPLIED = [
     ("a plain index implies nothing", r"\[ y_i = A_{ij} x_j \]", []),
     ("a summed letter stays an index", r"\[ \sum_{i} (x_i - x_{i-1}) = 0 \]", []),
     ("a dimension in a set stays a dimension", r"$x \in \mathbb{R}^{n}$ \[ x_{n-1} = y \]", []),
+    ("a letter paired with another in a subscript stays an index", r"\[ y_i = A_{ik} x_{k-1} \]", []),
     ("a declared index stays an index", "% stepcheck: index t\n\\[ x_{t+1} = x_t \\]", []),
     ("an author's label is not repeated", "% stepcheck: label k\n\\[ P_{k|k-1} = Q \\]", []),
 ]

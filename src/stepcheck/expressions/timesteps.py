@@ -8,8 +8,8 @@ reading of these; the reader takes them as part of the symbol's name (a label), 
 A letter written in such a subscript counts time steps, so the document treats it as a
 declared label everywhere (``K_k`` is the gain of step k, a name, not a matrix with an index
 k) — unless the document also binds it in a sum (``\\sum_{k}``), writes it in a superscript
-(``\\mathbb{R}^{k}``, ``\\sum_{i=1}^{k}``: a dimension) or declares it an index, where it
-stays what it is.  A subscript with index arithmetic whose letters are not labels (``x_{i-1}``
+(``\\mathbb{R}^{k}``, ``\\sum_{i=1}^{k}``: a dimension), pairs it with other letters in one
+subscript (``A_{ik}``: an index) or declares it an index, where it stays what it is.  A subscript with index arithmetic whose letters are not labels (``x_{i-1}``
 under ``\\sum_i``) is not read: the parse error says how to name the letter.
 """
 
@@ -127,6 +127,8 @@ def time_letters(rows: Iterable[Row], indices: frozenset[str] = frozenset()) -> 
                 continue
             time = time_subscript(group)
             if time is None:
+                if len(letters) > 1 and all(t.kind is not TokenKind.COMMAND for t in group):
+                    excluded |= letters  # A_{ik}: k is an index that pairs with others
                 continue
             span = group[0].span.join(group[-1].span)
             for letter in sorted(time[1]):
