@@ -117,6 +117,21 @@ def test_inline_math_offsets_are_exact() -> None:
         assert text[block.span.start : block.span.end] == f"${block.excerpt.text}$"
 
 
+def test_github_backtick_inline_math_drops_its_backticks_and_keeps_positions() -> None:
+    # GitHub's inline form $`…`$ (common practice in Markdown research logs): the backticks
+    # delimit the math; the declaration inside must reach the checker with exact offsets.
+    text = "Let $`X \\in \\mathbb{R}^{n \\times d}`$ and $`w_k`$, and a plain `$` sign.\n"
+    document = read_text(text, "md", "t.md")
+    assert [(b.kind, b.excerpt.text) for b in document.blocks] == [
+        (BlockKind.INLINE, "X \\in \\mathbb{R}^{n \\times d}"),
+        (BlockKind.INLINE, "w_k"),
+    ]
+    for block in document.blocks:
+        start = block.excerpt.to_file(0)
+        assert text[start : start + len(block.excerpt.text)] == block.excerpt.text
+        assert text[start - 2 : start] == "$`"
+
+
 def test_inline_math_across_a_line_break_maps_each_line() -> None:
     text = "> where $b_i = y_i\n> \\; - c_i$ holds\n"
     (block,) = read_text(text, "md", "t.md").blocks

@@ -347,11 +347,15 @@ class _Reader:
     def _inline_math(self, parent: MdToken, child: MdToken, excerpt: Excerpt | None) -> None:
         meta = child.meta or {}
         width = len(child.markup)
+        content = child.content
+        ticks = 1 if len(content) >= 2 and content[0] == "`" == content[-1] else 0
+        if ticks:  # GitHub's inline form $`…`$: the backticks are delimiters, not math
+            content = content[1:-1]
         if excerpt is None or "start" not in meta:
             at = self.lines.bounds(parent.map[0] if parent.map else 0)[0]
-            here, start, end = Excerpt(child.content, (0,), (at,)), at, at
+            here, start, end = Excerpt(content, (0,), (at,)), at, at
         else:
-            here = _sub_excerpt(excerpt, meta["start"] + width, meta["end"] - width)
+            here = _sub_excerpt(excerpt, meta["start"] + width + ticks, meta["end"] - width - ticks)
             start, end = excerpt.to_file(meta["start"]), excerpt.to_file(meta["end"] - 1) + 1
         display = child.type == "math_inline_double"
         kind = BlockKind.DISPLAY if display else BlockKind.INLINE
