@@ -273,6 +273,40 @@ def test_an_inline_value_used_through_a_definition_is_noted():
     ]
 
 
+# an inline definition in prose of a symbol the file declares (a spring bed's stiffness
+# matrix, declared n x n, then "for $K = s I$"): SPEC §4 makes it K's value everywhere
+SPRING_BED = (
+    "$K \\in \\mathbb{R}^{n\\times n}$, $\\mathbf{u} \\in \\mathbb{R}^{n}$, $s > 0$.\n"
+    "For a uniform bed, for $K = s I$ the energy is simple.\n"
+    "$$\n\\mathbf{u}^\\top K \\mathbf{u} = s\\, \\mathbf{u}^\\top \\mathbf{u}\n$$\n"
+    "$$\nK\\mathbf{u} = K^\\top \\mathbf{u}\n$$\n"
+)
+K_NOTE = (
+    "K is defined as `s I` by this inline math (it is also declared on line 1): the definition "
+    "holds for the whole file, and every step that uses K takes this value"
+)
+
+
+def test_an_inline_definition_of_a_declared_symbol_gets_one_note_at_its_place():
+    notes = [n for n in _notes(SPRING_BED) if "declared on line" in n[2]]
+    assert notes == [(2, 25, K_NOTE)]  # column of `K` in `$K = s I$`
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        # nothing checked uses K
+        SPRING_BED.split("$$")[0] + "$$\n\\mathbf{u}^\\top\\mathbf{u} = u_i u_i\n$$\n",
+        # declared and defined in one breath: "$G \\in ...$ the gradient $G_{ij} = ...$"
+        "$H \\in \\mathbb{R}^{3\\times 3}$ and the bed $K \\in \\mathbb{R}^{3\\times 3}$ with $K = H + H^\\top$.\n"
+        "$$\nK = K^\\top\n$$\n",
+    ],
+    ids=["unused", "same-line"],
+)
+def test_no_declared_symbol_note_where_nothing_is_hidden(text):
+    assert not [n for n in _notes(text) if "declared on line" in n[2]]
+
+
 # --------------------------------------------------------------------------- noise: unchecked math
 
 

@@ -48,16 +48,6 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "tower-modal-rayleigh.tex:20:6": (
-        "inline premise V^T M V = I (M-orthonormal basis) is not read; a counterexample with V=[[0]] "
-        "contradicts the stated premise instead of an honest unsupported"
-    ),
-    "tower-modal-rayleigh.tex:34:10": (
-        "same unread premise V^T M V = I: c^T V^T M V c = c^T c is refuted with a premise-violating V"
-    ),
-    "tower-modal-rayleigh.tex:43:6": (
-        "same unread premise V^T M V = I: gradient 2c - 2g refuted with a premise-violating V"
-    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -186,3 +186,32 @@ def test_an_index_error_that_holds_elementwise_says_so_and_one_that_does_not_sta
     assert ("holds when read without implicit summation" in hint) is hinted
     if hinted:
         assert "summation explicit" in hint and "\\text{(no sum)}" in hint
+
+
+@pytest.mark.parametrize(
+    "rhs, hinted",
+    [
+        # a loom sensor's layer norm: dy_i/dx_j = (delta_ij - 1/d - y_i y_j / d)/s (central finite
+        # differences agree; common practice in normalisation notes), elementwise in y's definition too
+        (r"\frac{1}{s} \left( \delta_{ij} - \frac{1}{d} - \frac{y_i y_j}{d} \right)", True),
+        # the 1/s lost: wrong in every reading
+        (r"\delta_{ij} - \frac{1}{d} - \frac{y_i y_j}{d}", False),
+    ],
+)
+def test_an_index_error_that_holds_only_with_its_definitions_elementwise_says_so(rhs, hinted):
+    from stepcheck import api
+
+    text = (
+        "$x \\in \\mathbb{R}^{d}$, $\\epsilon > 0$.\n\n"
+        "$$\\mu = \\frac{1}{d} \\sum_{i} x_i$$\n\n"
+        "$$v = \\frac{1}{d} \\sum_{i} (x_i - \\mu)^2$$\n\n"
+        "$s = \\sqrt{v + \\epsilon}$\n\n"
+        "$$y_i = \\frac{x_i - \\mu}{s}$$\n\n"
+        "$$\\frac{\\partial y_i}{\\partial x_j} = " + rhs + "$$\n"
+    )
+    step = list(api.check_text(text, kind="md").steps())[-1]
+    assert step.verdict is Verdict.INDEX_ERROR
+    hint = step.outcome.hint or ""
+    assert ("holds when it and the definitions it uses are read without implicit summation" in hint) is hinted
+    if hinted:
+        assert "`summation explicit` before those definitions" in hint

@@ -7,6 +7,7 @@ no checking logic of its own.
 from __future__ import annotations
 
 import concurrent.futures
+import hashlib
 import logging
 import multiprocessing
 import os
@@ -214,6 +215,10 @@ def _decide(plan: StepPlan, settings: Settings, cache: StepCache | None = None) 
             Verdict.DEFINES, message=f"assumes {plan.assumes.name} is {plan.assumes.kind.value}"
         )
     key = step_key(plan.lhs, plan.rhs, step.relation.text, plan.context, settings) if cache else None
+    if key is not None and plan.context.premises:
+        # a premise can turn a failure unsupported (evaluation.premises): part of the key
+        stated = "\n".join(p.text for p in plan.context.premises)
+        key = hashlib.sha256(f"{key}\n{stated}".encode()).hexdigest()
     if cache is not None and key is not None:
         stored = cache.get(key)
         if stored is not None:
@@ -262,6 +267,19 @@ def _explicit_reading_hint(plan: StepPlan, settings: Settings) -> str | None:
             "without an index constant along it); if "
             "that is meant, add the directive `summation explicit` or annotate the row with "
             "\\text{(no sum)}"
+        )
+    if not plan.context.definitions:
+        return None
+    # the definitions the step uses may need the same reading (y_i = (x_i - \mu)/s): only
+    # the directive reads them so, a row's (no sum) does not reach them
+    everywhere = replace(explicit, options=replace(plan.context.options, summation=Summation.EXPLICIT))
+    outcome = decide(plan.lhs, plan.rhs, plan.step.relation.kind, everywhere, settings, relation_text=plan.step.relation.text)
+    if outcome.verdict is Verdict.HOLDS:
+        return (
+            "holds when it and the definitions it uses are read without implicit summation (a "
+            "repeated index elementwise, a term without an index constant along it); if that is "
+            "meant, add the directive `summation explicit` before those definitions (a row's "
+            "\\text{(no sum)} does not reach them)"
         )
     return None
 

@@ -20,6 +20,7 @@ from ..checks.indices import check_indices
 from ..diagnostics import Diagnostic
 from ..expressions.chains import Chain, Step, Structure
 from ..expressions.errors import ParseError, UnsupportedConstruct
+from ..expressions import nodes
 from ..expressions.nodes import Node
 from ..expressions.tokens import Token
 from ..settings import Settings
@@ -29,7 +30,7 @@ from . import definitions as defs
 from . import heights
 from .declarations import RowFacts, assumption_of, assumption_table, read_rows, set_letters, states_components
 from .inference import Inference, Unit, infer_shapes
-from .model import Assumption, AssumptionKind, Definition, StepContext, StepOptions, Summation, Vocabulary
+from .model import Assumption, AssumptionKind, Definition, Premise, StepContext, StepOptions, Summation, Vocabulary
 from .options import OptionTimeline, directive_vocabulary, index_like_letters, inline_sizes, sum_limit_letters, with_options
 
 logger = logging.getLogger(__name__)
@@ -254,6 +255,60 @@ def _taught(vocabulary: Vocabulary, definitions: Sequence[Definition]) -> Vocabu
     return dataclasses.replace(vocabulary, functions=frozenset(functions), tensors=frozenset(tensors))
 
 
+# --------------------------------------------------------------------------- premises
+
+
+def _premises(read: Sequence[ReadChain], definitions: Mapping[StepKey, Definition]) -> list[Premise]:
+    """Inline equations about inputs that are neither definitions nor forms of SPEC §5
+    (``$V^\\top M V = I$``, ``$X\\mathbf{1} = 0$``): kept as premises of the whole file."""
+    found: list[Premise] = []
+    bodies = list(definitions.values())
+    defined = {d.name for d in bodies}
+    claims = {_bare_text(item.chain, k) for item in read if item.display for k in range(1, len(item.chain.sides))}
+    for item in read:
+        if item.display:
+            continue
+        chain = item.chain
+        for index in range(1, len(chain.sides)):
+            lhs, rhs = item.trees[index - 1], item.trees[index]
+            relation = chain.relations[index - 1]
+            if lhs is None or rhs is None or relation.kind is not RelationKind.EQUAL:
+                continue
+            if _key(chain, index) in definitions or assumption_of(lhs, rhs, relation.text) is not None:
+                continue
+            side = chain.sides[index - 1]
+            if defs.definition_form(lhs, side, chain.source, _reader(item.vocabulary)) is not None:
+                continue  # a bare symbol on the left: a definition, or a size, never a premise
+            direct = defs.names_in(lhs) | defs.names_in(rhs)
+            if not direct or direct & defined or _PREMISE_EXCLUDED & {type(x) for t in (lhs, rhs) for x in t.walk()}:
+                continue  # about inputs only: \det J = … of a defined J, a gradient, quote a claim
+            if _bare_text(chain, index) in claims:
+                continue  # the prose quotes a display step ("the template still says $…$")
+            names = defs.used_names(direct, bodies)
+            span = side.span.join(chain.sides[index].span)
+            text = " ".join(chain.source.slice(span).split())
+            found.append(Premise(lhs, rhs, text, chain.source, span, frozenset(names)))
+    return found
+
+
+#: Nodes that make an inline equation a claim in prose rather than a premise about inputs.
+_PREMISE_EXCLUDED = frozenset({nodes.Derivative, nodes.Gradient, nodes.Variable})
+
+
+def _bare_text(chain: Chain, index: int) -> str:
+    """A step's two sides as written, without spaces (to match a quote of a display step)."""
+    span = chain.sides[index - 1].span.join(chain.sides[index].span)
+    return "".join(chain.source.slice(span).split())
+
+
+def _premises_of(lhs: Node, rhs: Node, in_force: Mapping[str, Definition], premises: Sequence[Premise]) -> tuple[Premise, ...]:
+    """The premises that mention a symbol a step uses (through the definitions in force)."""
+    if not premises:
+        return ()
+    used = defs.used_names(defs.names_in(lhs) | defs.names_in(rhs), in_force.values())
+    return tuple(p for p in premises if p.names & used)
+
+
 # --------------------------------------------------------------------------- planning
 
 
@@ -352,6 +407,7 @@ class _Document:
     step_assumptions: Mapping[StepKey, Assumption]
     assumptions: Mapping[str, frozenset[AssumptionKind]]
     inference: Inference
+    premises: Sequence[Premise] = ()
 
 
 def _plan(item: ReadChain, index: int, doc: _Document) -> StepPlan:
@@ -370,6 +426,7 @@ def _plan(item: ReadChain, index: int, doc: _Document) -> StepPlan:
         assumptions=doc.assumptions,
         definitions=in_force,
         no_sum=chain.no_sum,
+        premises=_premises_of(lhs, rhs, in_force, doc.premises) if lhs is not None and rhs is not None else (),
     )
     findings: list[Diagnostic] = []
     if lhs is not None and rhs is not None:
@@ -455,7 +512,10 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     homes = _homes(structure, timeline, vocabulary, read, definitions, facts)
     if homes:
         inference = dataclasses.replace(inference, table=dataclasses.replace(inference.table, homes=homes))
-    doc = _Document(defs.Scope(definitions.values()), definitions, step_assumptions, assumption_table(assumptions), inference)
+    doc = _Document(
+        defs.Scope(definitions.values()), definitions, step_assumptions, assumption_table(assumptions), inference,
+        _premises(read, definitions),
+    )
     plans = [
         _plan(item, index, doc)
         for item in read
@@ -464,5 +524,9 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     ]
     notes = [ContextNote(n.source, n.span, n.message) for n in (*timeline.notes, *facts.notes, *inference.notes)]
     notes.extend(ContextNote(d.source, d.span, defs.value_note(d)) for d in defs.value_definitions(doc.scope))
-    notes.extend(ContextNote(d.source, d.span, defs.inline_value_note(d)) for d in defs.inline_values(definitions.values(), used))
+    declared = {d.name: d for d in facts.declarations}
+    notes.extend(
+        ContextNote(d.source, d.span, defs.inline_value_note(d, declared))
+        for d in defs.inline_values(definitions.values(), used, declared)
+    )
     return DocumentContext(tuple(plans), tuple(notes), dict(inference.origins))

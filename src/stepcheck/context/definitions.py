@@ -12,6 +12,15 @@ Such a chain is checked instead when its right side mentions its own left symbol
 one that follows it, and when uses are resolved.  Definitions are collected over the
 whole file first; a use takes the nearest preceding definition, else the nearest
 following one.
+
+Two readings SPEC §4 leaves open are settled here.  A special tensor written alone on a
+definition's left side (``\\varepsilon_{ij} = \\tfrac12(H_{ij} + H_{ji})``) is defined
+like any symbol, which makes it an ordinary tensor for the file (SPEC §7), unless the
+right side holds the same special (``\\epsilon_{ijk} = -\\epsilon_{jik}`` is an identity to
+check).  A chain whose second side is a construct the tool does not check (``\\hat{w} =
+\\argmin_w J(w) = (X^\\top X + \\rho I)^{-1} X^\\top y``) defines its first member by the
+first later side that can be read, when every relation up to it is ``=``: the chain says
+they are equal, and the steps before that side stay ``unsupported``.
 """
 
 from __future__ import annotations
@@ -27,7 +36,7 @@ from ..expressions.tokens import Token, TokenKind
 from ..expressions.vocabulary import OPERATOR_NAMES
 from ..source import SourceText
 from ..verdicts import RelationKind
-from .model import Definition
+from .model import Declaration, Definition
 from .options import symbol_name
 
 #: Reads one side's tokens into a tree.
@@ -352,25 +361,48 @@ def is_number(node: n.Node) -> bool:
     return all(isinstance(item, _NUMBER_NODES) for item in node.walk())
 
 
-def inline_values(definitions: Iterable[Definition], used: set[str]) -> list[Definition]:
-    """Inline definitions of a bare symbol by a number (``($a = 0$)`` in prose) that a
-    display step uses: SPEC §4 makes the value hold for the whole file, which silently
-    changes the steps that use the symbol — worth a note.  The first of each name, in
-    document order."""
+def inline_values(
+    definitions: Iterable[Definition], used: set[str], declared: Mapping[str, Declaration] | None = None
+) -> list[Definition]:
+    """Inline definitions of a bare symbol that a display step uses and that are easy to
+    miss: by a number (``($a = 0$)`` in prose), or of a symbol the file also declares
+    (``for $K = s I$`` with ``K \\in \\mathbb{R}^{n\\times n}`` elsewhere).  SPEC §4 makes the
+    value hold for the whole file, which silently changes the steps that use the symbol —
+    worth a note.  The first of each name, in document order."""
+    declared = declared or {}
     found: dict[str, Definition] = {}
     for definition in sorted(definitions, key=lambda d: (d.order, d.span.start)):
         if definition.display or definition.params or definition.name not in used:
             continue
-        if is_number(definition.body):
+        if is_number(definition.body) or _declared_apart(definition, declared.get(definition.name)):
             found.setdefault(definition.name, definition)
     return list(found.values())
 
 
-def inline_value_note(definition: Definition) -> str:
-    """``a is set to 0 by this inline math …`` for an :func:`inline_values` entry."""
+def _declared_apart(definition: Definition, declaration: Declaration | None) -> bool:
+    """Whether the symbol is declared on another line than the inline definition (``$G \\in
+    \\mathbb{R}^{3\\times 3}$ the gradient $G_{ij} = …$`` on one line says it all at once)."""
+    if declaration is None:
+        return False
+    if declaration.source is not definition.source:
+        return True
+    line = definition.source.position(definition.span.start).line
+    return declaration.source.position(declaration.span.start).line != line
+
+
+def inline_value_note(definition: Definition, declared: Mapping[str, Declaration] | None = None) -> str:
+    """``a is set to 0 by this inline math …`` for an :func:`inline_values` entry; for a
+    declared symbol, also where the declaration is."""
     name = definition.name
     value = " ".join(definition.source.slice(definition.body.span).split())
-    return f"{name} is set to {value} by this inline math; steps that use {name} take this value"
+    declaration = (declared or {}).get(name)
+    if declaration is None:
+        return f"{name} is set to {value} by this inline math; steps that use {name} take this value"
+    line = declaration.source.position(declaration.span.start).line
+    return (
+        f"{name} is defined as `{value}` by this inline math (it is also declared on line {line}): the "
+        f"definition holds for the whole file, and every step that uses {name} takes this value"
+    )
 
 
 def defines_by_relation(kind: RelationKind, form: Form | None) -> bool:

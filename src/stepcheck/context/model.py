@@ -159,6 +159,22 @@ class ShapeTable:
 
 
 @dataclass(frozen=True, slots=True)
+class Premise:
+    """An inline equation stated about inputs that is neither a definition (SPEC §4) nor a
+    form of SPEC §5 (``V^\\top M V = I``): the tool cannot draw inputs that honour it, but
+    a failing draw that breaks it decides nothing."""
+
+    lhs: Node
+    rhs: Node
+    text: str
+    """The premise as written (``V^{\\mathsf T} M V = I``)."""
+    source: SourceText
+    span: Span
+    names: frozenset[str] = frozenset()
+    """The symbols it mentions, through the definitions it uses."""
+
+
+@dataclass(frozen=True, slots=True)
 class StepContext:
     """Everything the checks and the evaluator need to decide one step."""
 
@@ -173,3 +189,5 @@ class StepContext:
     else nearest following), excluding the step's own definition."""
     no_sum: bool = False
     """The step's row is annotated ``\\text{(no sum)}``: read it with explicit summation."""
+    premises: tuple[Premise, ...] = ()
+    """Premises that mention a symbol the step uses (directly or through definitions)."""

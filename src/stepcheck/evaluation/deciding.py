@@ -18,7 +18,7 @@ from ..expressions import nodes as N
 from ..results import Outcome
 from ..settings import Settings
 from ..verdicts import Method, RelationKind, Verdict
-from . import compare, linalg
+from . import compare, linalg, premises
 from .analysis import Analysis, Key, analyse
 from .compare import Aligned, NeedFloat
 from .compiled import CompiledStep, compile_step
@@ -100,6 +100,9 @@ class Decider:
         self._compiled: dict[int, CompiledStep | None] = {}
         self.sampled: list[dict[Key, int]] = []
         """The size assignments a holding step was sampled at (empty until then)."""
+        self.honouring = False
+        """Set once a failing draw broke a premise: every later draw must honour the
+        premises (a draw that breaks one counts as outside the domain)."""
 
     # ------------------------------------------------------------------ machinery
 
@@ -152,6 +155,8 @@ class Decider:
         while done < count:
             env = drawer.draw(mode)
             try:
+                if self.honouring:
+                    premises.require(model, env, self.context.premises)
                 aligned, ok, err, dps = self._judge(model, env, swap, check, mode, confirm, compile_=not small)
             except OutOfDomain as e:
                 failures += 1
@@ -334,6 +339,10 @@ class Decider:
     def _fails(self, model: Model, env: Env, aligned: Aligned, mode: str) -> Outcome:
         from .hints import diagnose
 
+        if self.context.premises and not self.honouring:
+            premise = premises.broken(model, env, self.context.premises)
+            if premise is not None:
+                return premises.decide_under(self, premise, mode)
         hint, counterexample, message = diagnose(self, model, env, aligned, mode)
         return Outcome(Verdict.FAILS, message=self._with_notes(message), hint=hint, counterexample=counterexample)
 
