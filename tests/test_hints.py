@@ -429,3 +429,22 @@ def test_a_draw_where_both_sides_vanish_does_not_hide_the_sign_hint():
                            assumptions={"\\beta": {"positive"}}, definitions={"\\hat{m}": r"\beta m + (1 - \beta) g"})
     assert outcome.verdict is Verdict.FAILS
     assert outcome.hint == "the sides differ by a sign: the left side is −1 times the right side"
+
+
+@pytest.mark.parametrize("seed", [20261201, 7, 11])
+def test_an_indefinite_quadratic_form_fails_on_small_integers(seed):
+    # x^T (K - M) x >= 0 for two SPD matrices is false in general (textbook: K - M is
+    # indefinite when M exceeds K along some x); the counterexample is a person-checkable
+    # one, recomputed here with numpy from the reported inputs
+    outcome = decide_latex(
+        r"\mathbf{x}^\top (K - M) \mathbf{x}", "0", "\\ge", seed=seed,
+        shapes={"x": ("N",), "K": ("N", "N"), "M": ("N", "N")}, assumptions={"K": ["spd"], "M": ["spd"]},
+    )
+    assert outcome.verdict is Verdict.FAILS
+    inputs = {k: np.vectorize(fraction, otypes=[object])(arr(v)) for k, v in outcome.counterexample["inputs"].items()}
+    for value in inputs.values():
+        assert all(f.denominator == 1 and abs(f) <= 9 for f in np.ravel(value)), outcome.counterexample
+    n = inputs["K"].reshape(-1).size
+    x = inputs["x"].reshape(-1, 1)
+    inputs = {k: v.reshape(int(round(n ** 0.5)), -1) if k != "x" else v for k, v in inputs.items()}
+    assert (x.T.dot(inputs["K"] - inputs["M"]).dot(x)).item() < 0

@@ -524,6 +524,10 @@ def _index_notation(decider: Decider) -> bool:
 
 #: Draws of small integers per size assignment when a counterexample is sought.
 SMALL_DRAWS = 6
+#: Relations whose counterexamples are sought with :data:`INEQUALITY_FACTOR` times as many.
+_SOUGHT_LONGER = frozenset({RelationKind.ORDER, RelationKind.LOEWNER, RelationKind.NOT_EQUAL})
+#: The sampling's own factor for inequalities (:data:`stepcheck.evaluation.deciding.INEQUALITY_FACTOR`).
+INEQUALITY_FACTOR = 4
 
 
 def _smallest_counterexample(decider: Decider, mode: str) -> tuple[Model, Env, Aligned] | None:
@@ -532,9 +536,12 @@ def _smallest_counterexample(decider: Decider, mode: str) -> tuple[Model, Env, A
     (``e^{-kt}`` at k = 0 rather than k = −1: a person checks it by hand)."""
     rng = random.Random(decider.settings.seed + 11)
     candidates = small_assignments(decider.analysis)
+    # an inequality often breaks only in a small region: as many more small draws as the
+    # sampling itself takes (x^T (K - M) x < 0 needs M above K along x)
+    per = SMALL_DRAWS * (INEQUALITY_FACTOR if decider.relation in _SOUGHT_LONGER else 1)
     for sizes in candidates + [s for s in size_assignments(decider.analysis) if s not in candidates]:
         model = decider.model(sizes)
-        for small, count in ((True, SMALL_DRAWS), (False, 2)):
+        for small, count in ((True, per), (False, 2)):
             found, stopped = _failing_draws(decider, model, rng, count, mode, small)
             if found:
                 best = min(found, key=lambda t: _printed_length(decider, model, t))
