@@ -400,6 +400,24 @@ def test_step_timeout_is_never_swallowed():
             Decider(lhs, rhs, RelationKind.EQUAL, ctx, Settings(trials=50)).run()
 
 
+def test_a_timeout_that_something_swallowed_fires_again():
+    # Python swallows exceptions raised in garbage-collection callbacks and __del__
+    # ("Exception ignored"); the timer must fire again rather than let the step run on.
+    swallowed = 0
+    deadline = time.monotonic() + 5
+    with pytest.raises(StepTimeout):
+        with time_limit(0.05):
+            while time.monotonic() < deadline:
+                try:
+                    while time.monotonic() < deadline:
+                        pass
+                except StepTimeout:
+                    if swallowed:
+                        raise
+                    swallowed += 1  # as a callback would: printed, then forgotten
+    assert swallowed == 1 and time.monotonic() < deadline
+
+
 def test_counterexample_is_json_ready():
     outcome = decide_latex(r"\frac{\partial}{\partial \mathbf{w}} \mathbf{w}^\top A \mathbf{w}", r"2A\mathbf{w}",
                            shapes={"w": ("d",), "A": ("d", "d")}, layout="denominator")

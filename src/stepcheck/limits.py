@@ -6,6 +6,11 @@ A step's deciding runs under a real-time interval timer; when it fires, a
 swallows it.  Where no timer is available (not the main thread, or no
 ``SIGALRM``), the limit is not enforced and the cost caps of the evaluator are
 the only bound.
+
+Python swallows an exception raised inside some callbacks (a garbage-collection
+callback, a ``__del__``): it prints "Exception ignored" and goes on.  So after its
+first shot the timer keeps firing every :data:`REPEAT` seconds until the block has
+been left: a swallowed timeout is raised again instead of being lost.
 """
 
 from __future__ import annotations
@@ -20,8 +25,21 @@ class StepTimeout(BaseException):
     """The step ran past its time limit."""
 
 
-def _fire(signum: int, frame: object) -> None:
-    raise StepTimeout()
+#: Seconds between repeated shots of a timer whose first timeout may have been swallowed.
+REPEAT = 0.05
+
+
+class _Shots:
+    """Whether the timer's shots still raise (cleared first thing when the block is left)."""
+
+    __slots__ = ("active",)
+
+    def __init__(self) -> None:
+        self.active = True
+
+    def __call__(self, signum: int, frame: object) -> None:
+        if self.active:
+            raise StepTimeout()
 
 
 @contextlib.contextmanager
@@ -35,10 +53,17 @@ def time_limit(seconds: float) -> Iterator[None]:
     if not usable:
         yield
         return
-    previous = signal.signal(signal.SIGALRM, _fire)
-    signal.setitimer(signal.ITIMER_REAL, seconds)
+    shots = _Shots()
+    previous = signal.signal(signal.SIGALRM, shots)
+    signal.setitimer(signal.ITIMER_REAL, seconds, REPEAT)
     try:
         yield
     finally:
-        signal.setitimer(signal.ITIMER_REAL, 0)
-        signal.signal(signal.SIGALRM, previous)
+        while True:  # a shot landing while the timer is disarmed is raised here: disarm again
+            try:
+                shots.active = False
+                signal.setitimer(signal.ITIMER_REAL, 0)
+                signal.signal(signal.SIGALRM, previous)
+                break
+            except StepTimeout:
+                continue
