@@ -283,3 +283,43 @@ def test_agrees_with_central_differences(latex, shapes, variable, f):
     expected = central_difference(along, floats[variable])
     got = as_float_array(ours).reshape(expected.shape)
     np.testing.assert_allclose(got, expected, rtol=1e-6, atol=1e-7)
+
+
+def test_a_total_time_derivative_takes_each_dotted_input_as_the_rate_of_its_base():
+    # A composite plate's stored energy psi = (lambda/2)(tr E)^2 + mu tr(E^2) with E(t):
+    # d psi/dt = (lambda tr(E) delta_ij + 2 mu E_ij) Edot_ij. Reference: sympy.diff along
+    # the path E(t) = E0 + t Edot at t = 0, on random rationals (symmetric E0, as the
+    # declaration says), independently of the evaluator's rule.
+    t, lam, mu = sympy.symbols("t lambda mu")
+    E0 = sympy.Matrix(3, 3, lambda i, j: sympy.Rational(i + j + 1, 2))
+    Edot = sympy.Matrix(3, 3, lambda i, j: sympy.Rational(3 * i - j, 5))
+    E = E0 + t * Edot
+    psi = lam / 2 * E.trace() ** 2 + mu * (E * E).trace()
+    sigma = lam * E0.trace() * sympy.eye(3) + 2 * mu * E0
+    stress_power = sum(sigma[i, j] * Edot[i, j] for i in range(3) for j in range(3))
+    assert sympy.expand(sympy.diff(psi, t).subs(t, 0) - stress_power) == 0
+
+    shapes = {"E": (3, 3), "\\dot{E}": (3, 3)}
+    energy = r"\tfrac{\lambda}{2}\left(\operatorname{tr} E\right)^2 + \mu \operatorname{tr}(E^2)"
+    holds = decide_latex(r"\frac{\mathrm{d}}{\mathrm{d}t}\left(" + energy + r"\right)",
+                         r"\left(\lambda E_{kk}\delta_{ij} + 2\mu E_{ij}\right)\dot{E}_{ij}", shapes=shapes,
+                         assumptions={"E": {"symmetric"}})
+    assert holds.verdict is Verdict.HOLDS, holds.message
+    assert "d/dt takes \\dot{E} as the rate of E" in holds.message
+    lost = decide_latex(r"\frac{\mathrm{d}}{\mathrm{d}t}\left(" + energy + r"\right)",
+                        r"\left(\lambda E_{kk}\delta_{ij} + \mu E_{ij}\right)\dot{E}_{ij}", shapes=shapes,
+                        assumptions={"E": {"symmetric"}})
+    assert lost.verdict is Verdict.FAILS
+
+
+def test_a_partial_time_derivative_ignores_rates_and_a_second_total_one_is_unsupported():
+    # d/dt (e^{-t} x) = e^{-t}(xdot - x) (product rule, common practice), but the partial
+    # derivative by t holds x fixed: -e^{-t} x.
+    shapes = {"x": ("n",), "\\dot{x}": ("n",)}
+    assert decide_latex(r"\frac{\partial}{\partial t}\left(e^{-t}\mathbf{x}\right)", r"-e^{-t}\mathbf{x} + 0\dot{\mathbf{x}}",
+                        shapes=shapes).verdict is Verdict.HOLDS
+    assert decide_latex(r"\frac{d}{dt}\left(e^{-t}\mathbf{x}\right)", r"e^{-t}(\dot{\mathbf{x}} - \mathbf{x})",
+                        shapes=shapes).verdict is Verdict.HOLDS
+    second = decide_latex(r"\frac{d^2}{dt^2}\left(\mathbf{x}^\top\mathbf{x}\right)", r"2\dot{\mathbf{x}}^\top\dot{\mathbf{x}}",
+                          shapes=shapes)
+    assert second.verdict is Verdict.UNSUPPORTED and "second total derivative" in second.message

@@ -115,13 +115,62 @@ def _symbolic(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) -> Value:
     wrt = _variables(lw, node)
     names = frozenset(v.target.name for v in wrt)
     chain = frozenset(n for n in names if n in lw.context.definitions)
-    inner = replace(st, keep=(st.keep or frozenset()) | names, frozen=st.frozen | chain)
+    rates = _rates(lw, node, wrt)
+    inner = replace(st, keep=(st.keep or frozenset()) | names | frozenset(rates), frozen=st.frozen | chain)
     _refuse_bare(lw, node.expr, names, inner)
-    f = lw.lower_value(node.expr, inner)
+    f = before = lw.lower_value(node.expr, inner)
     gradient = isinstance(node, N.Gradient)
     for v in wrt:
         f = _by_variable(lw, f, v, st, gradient)
+    if rates:
+        f = _with_rates(lw, before, f, rates, node)
     return f
+
+
+def _rates(lw: Lowerer, node: N.Derivative | N.Gradient, wrt: tuple[N.Variable, ...]) -> dict[str, str]:
+    """Inputs that change with the variable of a total derivative by a scalar, each with
+    its rate: ``\\dot{E}`` is dE/dt wherever both appear (common practice in mechanics),
+    so ``\\frac{d\\psi}{dt}`` is ``\\partial\\psi/\\partial t`` plus ``\\partial\\psi/\\partial E_{ij}\\,\\dot{E}_{ij}``."""
+    if not isinstance(node, N.Derivative) or not node.total:
+        return {}
+    inputs = lw.model.analysis.inputs
+    found = {
+        name[len("\\dot{"):-1]: name
+        for name in inputs
+        if name.startswith("\\dot{") and name.endswith("}") and name[len("\\dot{"):-1] in inputs
+    }
+    variables = {v.target.name for v in wrt}
+    if not found or any(v.target.subs or inputs[v.target.name].axes for v in wrt) or variables & set(found):
+        return {}
+    if len(wrt) != 1:
+        raise Unsupported(
+            "a second total derivative of inputs with rates (" + ", ".join(sorted(found.values())) + ")", node.span
+        )
+    return found
+
+
+def _with_rates(lw: Lowerer, before: Value, f: Value, rates: dict[str, str], node: N.Derivative) -> Value:
+    """``f`` (the partial derivative) plus each input's rate contribution."""
+    model = lw.model
+    extra = np.zeros(before.data.shape, dtype=object)
+    for base, rate in rates.items():
+        values, speeds = model.symbols(base), model.symbols(rate)
+        if values.shape != speeds.shape:
+            raise Unsupported(f"{rate} is not shaped like {base}", node.span)
+        for idx in np.ndindex(*values.shape):
+            by = Differentiator(values[idx])
+            for out in np.ndindex(*before.data.shape):
+                extra[out] = extra[out] + by.diff(before.data[out]) * speeds[idx]
+    if f.data.shape == extra.shape:
+        data = obj_array(extra.shape, lambda i: f.data[i] + extra[i])
+    elif extra.ndim == 2 and f.data.shape == extra.T.shape:
+        data = obj_array(f.data.shape, lambda i: f.data[i] + extra[i[::-1]])
+    else:  # pragma: no cover - a derivative by a scalar keeps or transposes the shape
+        raise Unsupported("a total derivative whose layout cannot be matched", node.span)
+    note = "d/dt takes " + ", ".join(f"{rate} as the rate of {base}" for base, rate in sorted(rates.items()))
+    if note not in lw.notes:
+        lw.notes.append(note)
+    return Value(data, f.labels)
 
 
 def _variables(lw: Lowerer, node: N.Derivative | N.Gradient) -> tuple[N.Variable, ...]:
