@@ -1,4 +1,4 @@
-"""Blind field trials, seventh corpus: Markdown design notes and notebooks checked against
+r"""Blind field trials, seventh corpus: Markdown design notes and notebooks checked against
 hand-derived verdicts.
 
 Every document in ``tests/field_seventh/`` was written without reading the earlier corpora, in
@@ -10,7 +10,10 @@ orthogonality assumption), attention-head gradients (GitHub's ``$`...`$`` inline
 directive, an expectation and an argmin that may honestly be refused), an RNN cell with mixed
 index and matrix notation and ``\text{(no sum)}`` rows, optimiser moment algebra, and two
 notebooks exported from work (a Poisson GLM for dock arrivals, whitening and PCA of a sensor
-array) with code cells and outputs between the math cells.
+array) with code cells and outputs between the math cells; then a pick-arm resolved-rate note
+(a six-row chain mixing index and matrix notation, push-through identity, ``\\approx``, Loewner
+``\\le`` on SPD forms, a ``skip`` directive, rotation rates with a skew generator) and a
+listwise ranking head under ``summation explicit`` with a ``\\max`` that may be refused.
 
 Each document has a sidecar ``NAME.expected.json``: entries ``{"line", "column", "verdict",
 "why"}`` plus ``"cell"`` for notebook cells (counted from 1 over all cells) and ``"accept"``
@@ -61,6 +64,10 @@ KNOWN: dict[str, str] = {
         "is drawn, where U^T U = I is impossible), so U U^T U U^T = U U^T fails"
     ),
     "sensor-whitening.ipynb#cell5:10:130": "same: P P = P for P = U U^T with orthonormal columns",
+    "pick-arm-resolved-rates.md:67:39": (
+        "a checked middle step of the form Gamma^T = -Gamma (Gamma undeclared) is taken as a skew "
+        "assumption ('defines'), so the claim it should test proves itself"
+    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
