@@ -11,9 +11,9 @@ directive, an expectation and an argmin that may honestly be refused), an RNN ce
 index and matrix notation and ``\text{(no sum)}`` rows, optimiser moment algebra, and two
 notebooks exported from work (a Poisson GLM for dock arrivals, whitening and PCA of a sensor
 array) with code cells and outputs between the math cells; then a pick-arm resolved-rate note
-(a six-row chain mixing index and matrix notation, push-through identity, ``\\approx``, Loewner
-``\\le`` on SPD forms, a ``skip`` directive, rotation rates with a skew generator) and a
-listwise ranking head under ``summation explicit`` with a ``\\max`` that may be refused.
+(a six-row chain mixing index and matrix notation, push-through identity, ``\approx``, Loewner
+``\le`` on SPD forms, a ``skip`` directive, rotation rates with a skew generator) and a
+listwise ranking head under ``summation explicit`` with a ``\max`` that may be refused.
 
 Each document has a sidecar ``NAME.expected.json``: entries ``{"line", "column", "verdict",
 "why"}`` plus ``"cell"`` for notebook cells (counted from 1 over all cells) and ``"accept"``
