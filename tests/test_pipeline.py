@@ -215,3 +215,23 @@ def test_an_index_error_that_holds_only_with_its_definitions_elementwise_says_so
     assert ("holds when it and the definitions it uses are read without implicit summation" in hint) is hinted
     if hinted:
         assert "`summation explicit` before those definitions" in hint
+
+
+def test_a_failing_step_with_an_undeclared_function_says_how_to_declare_it():
+    # A flow's densities p_X(x), p_Z(z): without a declaration p_Z(z) is a product (SPEC §7),
+    # which here gives a shape error; the hint names the directive. Declared, the labelled
+    # name is a function (its label part of its name) and the shape error is gone.
+    from stepcheck import api
+
+    body = (
+        "$\\mathbf{z} \\in \\mathbb{R}^{d}$, $A \\in \\mathbb{R}^{d \\times d}$\n\n"
+        "$$\n\\log p_Z(\\mathbf{z}) - \\log p_Z(\\mathbf{z}) = \\log\\det A - \\log\\det A\n$$\n"
+    )
+    (step,) = api.check_text(body, kind="md").steps()
+    assert step.verdict is Verdict.SHAPE_ERROR
+    assert step.outcome.hint == (
+        "`p_Z(\\mathbf{z})` was read as a product; if p_Z is a function, add the directive `function p_Z`"
+    )
+    for directive in ("function p_Z", "function p"):
+        (step,) = api.check_text(f"<!-- stepcheck: {directive} -->\n" + body, kind="md").steps()
+        assert step.verdict is Verdict.HOLDS, (directive, step.outcome.message)

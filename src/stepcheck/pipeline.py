@@ -22,6 +22,7 @@ from .context.build import DocumentContext, StepPlan, build_context
 from .documents import discover, read_path, read_text
 from .documents.model import Document
 from .expressions.chains import Structure, Unreadable
+from .expressions.errors import ParseError
 from .expressions.splitting import structure_of
 from .expressions.tokens import tokens_latex
 from .limits import StepTimeout, time_limit
@@ -237,9 +238,38 @@ def _with_reading_note(plan: StepPlan, outcome: Outcome) -> Outcome:
     if plan.lhs is None or plan.rhs is None:
         return outcome
     note = levi_civita_note(outcome.verdict, (plan.lhs, plan.rhs), plan.findings, plan.step.source)
-    if note is None or note in outcome.message:
-        return outcome
-    return replace(outcome, message=f"{outcome.message}; {note}" if outcome.message else note)
+    if note is not None and note not in outcome.message:
+        outcome = replace(outcome, message=f"{outcome.message}; {note}" if outcome.message else note)
+    if outcome.hint is None and outcome.verdict in _FAILING:
+        outcome = replace(outcome, hint=_product_reading_hint(plan))
+    return outcome
+
+
+_FAILING = frozenset({Verdict.FAILS, Verdict.SHAPE_ERROR, Verdict.INDEX_ERROR})
+
+
+def _product_reading_hint(plan: StepPlan) -> str | None:
+    """A failing step with ``p_Z(\\mathbf{z})`` read as a product because ``p_Z`` is not
+    declared a function says how to declare it (the reader's ``undeclared-product``)."""
+    from .expressions.parser import read_side
+
+    source = plan.step.source
+    for side in (plan.step.lhs, plan.step.rhs):
+        try:
+            readings = read_side(side.tokens, plan.context.vocabulary, source).readings
+        except ParseError:
+            continue
+        for reading in readings:
+            if reading.rule != "undeclared-product":
+                continue
+            written = source.slice(reading.span)
+            name = written.split("(", 1)[0].replace("\\left", "").strip()
+            if name:
+                return (
+                    f"`{written}` was read as a product; if {name} is a function, add the directive "
+                    f"`function {name}`"
+                )
+    return None
 
 
 def _balances_explicitly(plan: StepPlan) -> bool:

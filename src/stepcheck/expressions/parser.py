@@ -478,6 +478,10 @@ class Reader(SymbolReading, SymbolBuilding, FunctionReading, BracketReading, Cal
                 span,
             )
         if self.at_paren() and isinstance(node, n.Symbol):
+            if not node.subs and node.name != base.name and (node.name in self.vocab.functions or (func is not None and user)):
+                # a labelled function: p_{Z}(\mathbf{z}), f_{\theta}(x) (rule labelled-function)
+                self.note("labelled-function", node.span, f"{node.name} is a function: its label is part of its name")
+                return self.function_call(node.name, True, start)
             if func is not None:
                 raise self.s.error(
                     f"the function '{self.s.text_of(node.span)}' at {self.s.where(node.span)} is written with "
