@@ -55,10 +55,6 @@ KNOWN: dict[str, str] = {
         "(unsupported: 'a sum of identity and ones of unknown size')"
     ),
     "attention-head-grads.md:38:76": "same: the step's left side is -(I - 1 a^T)^T y",
-    "attention-head-grads.md:42:37": (
-        "\\therefore at the start of a row is a parse-error (unknown command) instead of a "
-        "dropped prose marker like \\Rightarrow"
-    ),
     "sensor-whitening.ipynb#cell5:6:27": (
         "U^T U = I on a d x k matrix: not sampled with orthonormal columns (and d=1, k=2 "
         "is drawn, where U^T U = I is impossible), so U U^T U U^T = U U^T fails"

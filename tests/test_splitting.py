@@ -73,6 +73,11 @@ TEX_CASES = [
         ["doc.tex:1:8 1.1 r = \\frac{a}{b}", "doc.tex:1:45 2.1 rb = a", "doc.tex:1:60 3.1 x = y", "doc.tex:1:70 4.1 u = v"],
     ),
     (
+        "therefore-because-and-converse-arrows-split-chains",
+        "\\[ \\therefore\\ a = b \\because c = d \\impliedby e = f \\Leftarrow g = h \\]\n",
+        ["doc.tex:1:20 1.1 a = b", "doc.tex:1:35 2.1 c = d", "doc.tex:1:52 3.1 e = f", "doc.tex:1:69 4.1 g = h"],
+    ),
+    (
         "row-end-annotation-dropped-chain-continues",
         "\\begin{align}\n  g &= h \\qquad \\text{(by (3))} \\\\\n    &= k.\n\\end{align}\n",
         ["doc.tex:2:8 1.1 g = h", "doc.tex:3:8 1.2 h = k"],

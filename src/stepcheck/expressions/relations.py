@@ -39,7 +39,7 @@ DEFINITION_MARK_COMMANDS = frozenset({r"\Delta", r"\triangle", r"\vartriangle", 
 #: Commands that separate independent chains at depth 0.
 SEPARATORS = frozenset(
     {r"\quad", r"\qquad", r"\implies", r"\Rightarrow", r"\Longrightarrow", r"\iff", r"\Leftrightarrow",
-     r"\Longleftrightarrow"}
+     r"\Longleftrightarrow", r"\therefore", r"\because", r"\Leftarrow", r"\Longleftarrow", r"\impliedby"}
 )
 #: Text commands: an annotation between expressions (its argument is one TEXT token).
 ANNOTATIONS = frozenset(

@@ -446,7 +446,8 @@ RELATION_TEXTS = frozenset(
      "\\sim", "\\propto", "\\equiv", "\\coloneqq", "\\triangleq", "\\preceq", "\\succeq",
      "\\prec", "\\succ", "\\in", "\\implies", "\\Rightarrow", "\\iff", "\\to", "\\mapsto",
      "\\leqslant", "\\geqslant", "\\lt", "\\gt", "\\coloneq", "\\eqcolon", "\\eqqcolon",
-     "\\Longrightarrow", "\\Leftrightarrow", "\\Longleftrightarrow"}
+     "\\Longrightarrow", "\\Leftrightarrow", "\\Longleftrightarrow", "\\therefore", "\\because",
+     "\\Leftarrow", "\\Longleftarrow", "\\impliedby"}
 )
 
 
