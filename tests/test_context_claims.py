@@ -210,3 +210,17 @@ def test_a_refused_side_makes_a_refused_plan_and_an_unsupported_verdict(refusing
 def test_a_refused_left_side_is_refused_too(refusing_reader):
     plan = document_context("$$\n\\int_0^1 t\\,dt = \\tfrac12\n$$\n").plans[0]
     assert plan.refused
+
+
+def test_an_assumption_form_in_the_middle_of_a_chain_is_a_claim():
+    # A pick arm's rate matrix: with T orthogonal, (T^T T G)^T = G^T holds, and G^T = -G
+    # is then a claim about an undeclared G (false for a generic G), not an assumption that
+    # would make itself true. As a chain's first step the same form assumes G skew.
+    text = (
+        "$T \\in \\mathbb{R}^{3 \\times 3}$, $T^\\top T = I$, $G \\in \\mathbb{R}^{3 \\times 3}$\n\n"
+        "$$\n(T^\\top T G)^\\top = G^\\top = -G\n$$\n"
+    )
+    verdicts = [s.verdict.value for s in api.check_text(text, kind="md").steps()]
+    assert verdicts == ["holds", "fails"]
+    first = "$G \\in \\mathbb{R}^{3 \\times 3}$\n\n$$\nG^\\top = -G\n$$\n\n$$\nG + G^\\top = 0\n$$\n"
+    assert [s.verdict.value for s in api.check_text(first, kind="md").steps()] == ["defines", "holds"]

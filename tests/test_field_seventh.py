@@ -60,10 +60,6 @@ KNOWN: dict[str, str] = {
         "is drawn, where U^T U = I is impossible), so U U^T U U^T = U U^T fails"
     ),
     "sensor-whitening.ipynb#cell5:10:130": "same: P P = P for P = U U^T with orthonormal columns",
-    "pick-arm-resolved-rates.md:67:39": (
-        "a checked middle step of the form Gamma^T = -Gamma (Gamma undeclared) is taken as a skew "
-        "assumption ('defines'), so the claim it should test proves itself"
-    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -329,10 +329,12 @@ def _assumption(
     definition in force (``defined``: anywhere in the file, as a use takes the nearest
     preceding definition, else the nearest following; the step's own definition, as in
     ``D = \\operatorname{diag}(\\mathbf{d})``, aside) there is nothing to assume, and the
-    step is a claim to check like any other.
+    step is a claim to check like any other.  Only a chain's first step can state one: a
+    later step continues a derivation (``(T^\top T \Gamma)^\top = \Gamma^\top = -\Gamma``
+    claims that Γ is skew, it does not assume it).
     """
     lhs, rhs = item.trees[index - 1], item.trees[index]
-    if lhs is None or rhs is None:
+    if lhs is None or rhs is None or index > 1:
         return None
     relation = item.chain.relations[index - 1]
     if relation.kind not in (RelationKind.EQUAL, RelationKind.ORDER, RelationKind.LOEWNER):
