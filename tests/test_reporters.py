@@ -398,3 +398,13 @@ def test_any_text_keeps_every_format_well_formed(report):
     assert [line for line in text if not line.startswith(" ")][-1].startswith("stepcheck: 1 file, 1 step")
     _, table = _tables(render("markdown", report))
     assert len(table) == 2 and len(table[1]) == 4
+
+
+def test_a_notebooks_cells_count_as_one_document_in_every_summary():
+    from stepcheck.results import FileReport
+
+    cells = tuple(FileReport(path=f"logs/dock arrivals.ipynb#cell{k}", steps=()) for k in (1, 3, 5))
+    report = Report(seed=5, files=cells + (FileReport(path="notes/pump.tex", steps=()),))
+    assert report.summary()["files"] == 2
+    assert render("text", report).splitlines()[-1].startswith("stepcheck: 2 files, 0 steps")
+    assert report.to_dict()["files"][0]["path"] == "logs/dock arrivals.ipynb#cell1"  # entries stay per cell

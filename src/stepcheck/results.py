@@ -2,12 +2,15 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from typing import Any, Mapping
 
 from .verdicts import VERDICT_ORDER, Method, Verdict
 
 SCHEMA_VERSION = 1
+#: The cell part of a notebook step's path (``nb.ipynb#cell3``; SPEC §11).
+_CELL_SUFFIX = re.compile(r"#cell[0-9]+$")
 
 
 @dataclass(frozen=True, slots=True)
@@ -126,9 +129,14 @@ class Report:
         """0 when nothing counts as a failure, else 1 (2 is the CLI's, for a run that could not start)."""
         return 1 if self.failed(strict) else 0
 
+    def document_count(self) -> int:
+        """How many documents were read: a notebook's cells (``nb.ipynb#cell3``), reported
+        as entries of their own, count once."""
+        return len({_CELL_SUFFIX.sub("", f.path) for f in self.files})
+
     def summary(self) -> dict[str, int]:
-        """The SPEC §11 ``summary`` object."""
-        summary = {"files": len(self.files), "steps": len(self.steps())}
+        """The SPEC §11 ``summary`` object (``files`` counts documents)."""
+        summary = {"files": self.document_count(), "steps": len(self.steps())}
         summary.update({v.value: n for v, n in self.counts().items()})
         return summary
 

@@ -330,7 +330,7 @@ def _assumption(
     preceding definition, else the nearest following; the step's own definition, as in
     ``D = \\operatorname{diag}(\\mathbf{d})``, aside) there is nothing to assume, and the
     step is a claim to check like any other.  Only a chain's first step can state one: a
-    later step continues a derivation (``(T^\top T \Gamma)^\top = \Gamma^\top = -\Gamma``
+    later step continues a derivation (``(T^\\top T \\Gamma)^\\top = \\Gamma^\\top = -\\Gamma``
     claims that Γ is skew, it does not assume it).
     """
     lhs, rhs = item.trees[index - 1], item.trees[index]

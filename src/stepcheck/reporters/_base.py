@@ -156,7 +156,7 @@ def counterexample_text(
 def summary_text(report: Report) -> str:
     """``2 files, 14 steps: 11 holds, 2 defines, 1 fails (seed 7)`` — zero counts left out."""
     counts = report.counts()
-    files = len(report.files)
+    files = report.document_count()
     total = sum(counts.values())
     head = f"{files} file{'s' if files != 1 else ''}, {total} step{'s' if total != 1 else ''}"
     body = ", ".join(f"{counts[v]} {v.value}" for v in VERDICT_ORDER if counts[v])

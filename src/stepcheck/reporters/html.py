@@ -87,7 +87,7 @@ class HtmlReporter(Reporter):
         counts = report.counts()
         yield '<table class="summary">\n<tr><th>files</th><th>steps</th>'
         yield "".join(f"<th>{esc(v.value)}</th>" for v in VERDICT_ORDER)
-        yield f"</tr>\n<tr><td>{len(report.files)}</td><td>{len(report.steps())}</td>"
+        yield f"</tr>\n<tr><td>{report.document_count()}</td><td>{len(report.steps())}</td>"
         yield "".join(f"<td>{counts[v]}</td>" for v in VERDICT_ORDER)
         yield "</tr>\n</table>\n"
 

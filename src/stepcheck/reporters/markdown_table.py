@@ -74,7 +74,7 @@ class MarkdownReporter(Reporter):
         """A one-row table of the verdict counts, then the seed."""
         counts = report.counts()
         headers = ("files", "steps") + tuple(v.value for v in VERDICT_ORDER)
-        values = (str(len(report.files)), str(len(report.steps()))) + tuple(
+        values = (str(report.document_count()), str(len(report.steps()))) + tuple(
             str(counts[v]) for v in VERDICT_ORDER
         )
         strict = " Run with `--strict`." if report.strict else ""
