@@ -11,7 +11,9 @@ notation (Levi-Civita, ``\\partial_i`` through macros), stress power of a greenh
 time rates (``\\frac{\\mathrm{d}}{\\mathrm{d}t}``, ``\\dot{F}``, ``\\dot{E}``), a dome shell in up-down
 indices with a metric, a plasma probe's field tensor with Greek indices and a metric named by
 directive, a forging die's yield check (deviator, ``J_2``), a pipeline-leak kernel's length-scale
-gradients over a family of sites under ``summation explicit``, a tide-gauge model's masked
+gradients over a family of sites under ``summation explicit``, a soil-moisture ridge model's
+dual form by the push-through identity (``gathered``, ``\\intertext``, ``\\eqqcolon``, ``\\equiv``,
+``flalign``), a tide-gauge model's masked
 attention read-out (``(no sum)``), a rail-wagon tracker's Kalman update (``\\coloneqq``,
 ``\\stackrel{\\text{def}}{=}``, ``\\overset{(a)}{=}``, Loewner
 order, ``\\approx``), and trace and log-det lemmas in denominator layout. Preambles use
@@ -65,6 +67,14 @@ KNOWN: dict[str, str] = {
     "forge-die-plasticity.tex:21:48": f"{_J2}; its derivative is then unsupported ('J has no definition')",
     "forge-die-plasticity.tex:34:6": f"{_J2}; 2 gamma J_2 uses a random J_2",
     "forge-die-plasticity.tex:39:41": f"{_J2}; d J_2/dt is then unsupported ('J has no definition')",
+    "ridge-dual-derivation.tex:33:31": (
+        "`y - X w =: r` is checked as an equality instead of defining r (the symbol on the right of "
+        "\\eqqcolon); the next row's claim about r is taken as r's definition"
+    ),
+    "ridge-dual-derivation.tex:34:17": (
+        "`r = lambda (X X^T + lambda I)^{-1} y` is taken as the definition of r, so the claim is never "
+        "checked (r was already defined by =: on the row above)"
+    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
