@@ -20,6 +20,7 @@ from typing import Hashable
 from ..context.model import AssumptionKind, Definition, StepContext
 from ..expressions import nodes as N
 from ..source import Span
+from .fields import FieldSpec, field_candidate, promote
 from .metric import definition_home, heights, metric_kinds, metric_name
 from .values import Unsupported
 
@@ -113,6 +114,8 @@ class InputSpec:
     chain_variable: bool = False
     """A defined symbol used as a variable of differentiation (chain-rule notation): its
     values come from its definition, never from a draw."""
+    coefficient_of: str | None = None
+    """A coefficient array of a field (see :mod:`.fields`): the field's name."""
 
     @property
     def all_axes(self) -> tuple[Key, ...]:
@@ -139,6 +142,9 @@ class Analysis:
     binding_key: dict[int, Key] = field(default_factory=dict)
     """``id(Binding node)`` → its bound letter's range key."""
     functions: dict[str, UserFunction] = field(default_factory=dict)
+    fields: dict[str, FieldSpec] = field(default_factory=dict)
+    """Undefined symbols differentiated by coordinate components (see :mod:`.fields`);
+    not inputs themselves: their coefficient arrays are."""
     dimension_values: set[str] = field(default_factory=set)
     """Dimension letters used as values (``\\frac{1}{n}``)."""
     transcendental: list[str] = field(default_factory=list)
@@ -180,6 +186,8 @@ class Walker:
         self._visited_defs: set[tuple[str, frozenset[str]]] = set()
         self._cross_nodes: list[N.Cross] = []
         self._defined_uses: list[tuple[Definition, tuple[bool, ...], tuple]] = []
+        self._field_candidates: dict[str, set[str]] = {}
+        self._variables: set[str] = set()
         self.a.metric = metric_name(context)
 
     # ------------------------------------------------------------------ entry
@@ -197,6 +205,7 @@ class Walker:
                 self.a.uf.fix(dim_key(letter), size)
         for node in self._cross_nodes:
             self._fix_cross(node)
+        promote(self.a, self._field_candidates, self._variables, sides)
         return self.a
 
     # ------------------------------------------------------------------ scopes
@@ -313,6 +322,9 @@ class Walker:
         self.a.differentiates = True
         names = frozenset(v.target.name for v in node.wrt if v.target.name in self.context.definitions)
         self._visit_chain_definitions(names, node, frozen, in_diff)
+        found = field_candidate(node, self.context.definitions, frozen | names, bound_names)
+        if found is not None:
+            self._field_candidates.setdefault(found[0], set()).add(found[1])
         for v in node.wrt:
             self._visit_variable(v, scope, frozen | names, bound_names)
         self.visit(node.expr, scope, frozen | names, bound_names, True)
@@ -334,6 +346,7 @@ class Walker:
                 self._visit_definition(self.context.definitions[name], node, (), frozen, False, in_diff)
 
     def _visit_variable(self, v: N.Variable, scope, frozen, bound_names) -> None:
+        self._variables.add(v.target.name)
         self.visit_Symbol(v.target, scope, frozen, bound_names, True)
 
     def visit_Apply(self, node: N.Apply, scope, frozen, bound_names, in_diff) -> None:

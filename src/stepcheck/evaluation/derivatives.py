@@ -38,6 +38,7 @@ from ..context.model import AssumptionKind, Layout
 from ..expressions import nodes as N
 from ..source import Span
 from .differentiate import Differentiator
+from .fields import refuse_other_variable
 from .lower import Lowerer, State
 from .metric import chain_axes, heights
 from .values import OutOfDomain, Unsupported, Value, make_value, obj_array, shape_text
@@ -116,8 +117,10 @@ def _symbolic(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) -> Value:
     names = frozenset(v.target.name for v in wrt)
     chain = frozenset(n for n in names if n in lw.context.definitions)
     rates = _rates(lw, node, wrt)
-    inner = replace(st, keep=(st.keep or frozenset()) | names | frozenset(rates), frozen=st.frozen | chain)
-    _refuse_bare(lw, node.expr, names, inner)
+    fields = frozenset(lw.model.analysis.fields)  # functions of their coordinate: never placeholders
+    inner = replace(st, keep=(st.keep or frozenset()) | names | frozenset(rates) | fields, frozen=st.frozen | chain)
+    if not refuse_other_variable(lw, node.expr, wrt):
+        _refuse_bare(lw, node.expr, names, inner)
     f = before = lw.lower_value(node.expr, inner)
     gradient = isinstance(node, N.Gradient)
     for v in wrt:

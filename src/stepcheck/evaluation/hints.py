@@ -311,7 +311,7 @@ def _scalar_factor_hint(decider: Decider, assignments: list[dict], aligned: Alig
         return None
     scalars = [
         name for name, spec in decider.analysis.inputs.items()
-        if not spec.axes and spec.family is None and not spec.chain_variable
+        if not spec.axes and spec.family is None and not spec.chain_variable and spec.coefficient_of is None
     ]
     draws: list[tuple[float, dict[str, float]]] = []
     rng = random.Random(decider.settings.seed + 11)
@@ -418,7 +418,7 @@ def _square_inputs(decider: Decider, model: Model) -> list[tuple[str, tuple[int,
     out = []
     analysis = decider.analysis
     for name, spec in analysis.inputs.items():
-        if spec.chain_variable or spec.family is not None:
+        if spec.chain_variable or spec.family is not None or spec.coefficient_of is not None:
             continue
         axes = spec.axes
         for a in range(len(axes)):

@@ -24,6 +24,7 @@ from ..expressions import nodes as N
 from . import linalg, opaque
 from .analysis import scalar_name
 from .arithmetic import ArithmeticRules
+from .fields import FieldSpec, field_value
 from .functions import FunctionRules
 from .metric import heights, move_axes
 from .model import Env, Model
@@ -72,6 +73,7 @@ class Lowerer(ArithmeticRules, FunctionRules):
         self._definition_cache: dict[Any, Value] = {}
         self._reach_cache: dict[str, frozenset[str]] = {}
         self._metric: tuple[np.ndarray, np.ndarray] | None = None
+        self._field_cache: dict[str, np.ndarray] = {}
         self.opaque_matrices = False
         """Inverses and determinants of symbolic blocks as opaque functions of their
         entries (:mod:`.opaque`), for derivatives and compiled draws; else expanded."""
@@ -171,6 +173,9 @@ class Lowerer(ArithmeticRules, FunctionRules):
         analysis = self.model.analysis
         if name in analysis.dimension_values and not node.subs:
             return Value(as_array(sympy.Integer(self.model.size_of(("dim", name)))))
+        field = analysis.fields.get(name)
+        if field is not None:
+            return self.index_native(self._field(field), node.subs, st, node)
         spec = analysis.inputs.get(name)
         if spec is None and node.subs:
             key = scalar_name(node)
@@ -182,6 +187,13 @@ class Lowerer(ArithmeticRules, FunctionRules):
         if analysis.metric is not None and node.subs and spec.family is None:
             native = self._at_heights(name, native, node.subs)
         return self.index_native(native, node.subs, st, node, family=spec.family is not None)
+
+    def _field(self, field: FieldSpec) -> np.ndarray:
+        """A field's value at this environment's point (remembered per lowerer)."""
+        found = self._field_cache.get(field.name)
+        if found is None:
+            found = self._field_cache[field.name] = field_value(self, field)
+        return found
 
     # ------------------------------------------------------------------ index heights
 
