@@ -65,6 +65,10 @@ ASSUMPTIONS = [
     ("directive", "<!-- stepcheck: assume L lower-triangular -->", "L", {K.LOWER_TRIANGULAR}),
     ("directive-bold-name", "<!-- stepcheck: assume \\mathbf{p} one-hot -->", "p", {K.ONE_HOT}),
     ("directive-math", r"<!-- stepcheck: \Sigma \succ 0 -->", "\\Sigma", {K.SPD}),
+    # inline chains of statements: each neighbouring pair states something, and the first side
+    # of an all-"=" prefix takes the later relations (Σ = Σᵀ ≻ 0: Σ ≻ 0)
+    ("chained-symmetric-spd", r"$\Sigma = \Sigma^\top \succ 0$", "\\Sigma", {K.SYMMETRIC, K.SPD}),
+    ("chained-bounds", r"a rate $0 < \beta < 1$", "\\beta", {K.POSITIVE}),
 ]
 
 

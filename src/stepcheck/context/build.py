@@ -329,12 +329,13 @@ def _assumption(
     definition in force (``defined``: anywhere in the file, as a use takes the nearest
     preceding definition, else the nearest following; the step's own definition, as in
     ``D = \\operatorname{diag}(\\mathbf{d})``, aside) there is nothing to assume, and the
-    step is a claim to check like any other.  Only a chain's first step can state one: a
-    later step continues a derivation (``(T^\\top T \\Gamma)^\\top = \\Gamma^\\top = -\\Gamma``
-    claims that Γ is skew, it does not assume it).
+    step is a claim to check like any other.  In a display only a chain's first step can
+    state one: a later step continues a derivation (``(T^\\top T \\Gamma)^\\top =
+    \\Gamma^\\top = -\\Gamma`` claims that Γ is skew, it does not assume it); inline math
+    may chain statements (``$\\Sigma = \\Sigma^\\top \\succ 0$``, ``$0 < \\beta < 1$``).
     """
     lhs, rhs = item.trees[index - 1], item.trees[index]
-    if lhs is None or rhs is None or index > 1:
+    if lhs is None or rhs is None or (index > 1 and item.display):
         return None
     relation = item.chain.relations[index - 1]
     if relation.kind not in (RelationKind.EQUAL, RelationKind.ORDER, RelationKind.LOEWNER):

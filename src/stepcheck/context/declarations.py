@@ -323,6 +323,8 @@ def assumption_of(lhs: n.Node, rhs: n.Node, relation: str) -> tuple[str, K] | No
     :param relation: the relation as written (``"="``, ``"\\succ"``, ``">"`` …).
     :returns: ``(name, kind)``, or None.
     """
+    if relation in _MIRRORED:  # 0 < x, 0 \\preceq K: the same statements read from the right
+        return assumption_of(rhs, lhs, _MIRRORED[relation])
     if relation in ZERO_RELATIONS:
         zero = isinstance(rhs, (n.Number, n.Zero)) and (not isinstance(rhs, n.Number) or rhs.value == 0)
         name = _bare(lhs) or (lhs.name if isinstance(lhs, n.Symbol) else None)
@@ -336,8 +338,13 @@ def assumption_of(lhs: n.Node, rhs: n.Node, relation: str) -> tuple[str, K] | No
     return None
 
 
+#: Relations written with zero on the left, and the relation they mean with sides swapped.
+_MIRRORED = {
+    "<": ">", "\\lt": ">", "\\le": "\\ge", "\\leq": "\\ge", "\\leqslant": "\\ge",
+    "\\prec": "\\succ", "\\preceq": "\\succeq",
+}
 #: Relations whose two sides are read for assumption forms in inline math.
-_RELATION_TEXTS = frozenset({"=", ">", "\\ge", "\\geq", "\\geqslant", "\\succ", "\\succeq"})
+_RELATION_TEXTS = frozenset({"=", ">", "\\ge", "\\geq", "\\geqslant", "\\succ", "\\succeq"}) | frozenset(_MIRRORED)
 _SEGMENT_STOPS = frozenset({",", ";"})
 _SEGMENT_COMMANDS = frozenset({"\\quad", "\\qquad", "\\text", "\\mbox", "\\implies", "\\Rightarrow", "\\iff", "\\Longrightarrow", "\\Leftrightarrow", "\\in"})
 
@@ -362,17 +369,27 @@ def relation_assumptions(row: Row, read: Reader) -> list[Assumption]:
     for segment in _segments(row.tokens):
         depths = _depths(segment)
         at = [k for k, t in enumerate(segment) if depths[k] == 0 and t.text in _RELATION_TEXTS and t.kind in (TokenKind.SYMBOL, TokenKind.COMMAND)]
-        if len(at) != 1 or at[0] == 0 or at[0] == len(segment) - 1:
+        if not at or at[0] == 0 or at[-1] == len(segment) - 1 or any(b == a + 1 for a, b in zip(at, at[1:])):
             continue
-        k = at[0]
+        bounds = [-1] + at + [len(segment)]
         try:
-            lhs, rhs = read(segment[:k], row.source), read(segment[k + 1 :], row.source)
+            sides = [read(segment[bounds[i] + 1 : bounds[i + 1]], row.source) for i in range(len(bounds) - 1)]
         except ParseError:
             continue
-        stated = assumption_of(lhs, rhs, segment[k].text)
-        if stated is not None:
-            span = Span(segment[0].span.start, segment[-1].span.end)
-            found.append(Assumption(stated[0], stated[1], row.source, span, states_components(lhs)))
+        span = Span(segment[0].span.start, segment[-1].span.end)
+        # each neighbouring pair states something (Σ = Σ^T, Σ^T ≻ 0), and while the chain
+        # is all "=" its first side takes the later relations too (Σ = Σ^T ≻ 0: Σ ≻ 0)
+        pairs = [(i, i) for i in range(len(at))]
+        equal_so_far = True
+        for i in range(1, len(at)):
+            equal_so_far = equal_so_far and segment[at[i - 1]].text == "="
+            if equal_so_far:
+                pairs.append((0, i))
+        for left, i in pairs:
+            lhs, rhs = sides[left], sides[i + 1]
+            stated = assumption_of(lhs, rhs, segment[at[i]].text)
+            if stated is not None:
+                found.append(Assumption(stated[0], stated[1], row.source, span, states_components(lhs)))
     return found
 
 
