@@ -7,6 +7,7 @@ no checking logic of its own.
 from __future__ import annotations
 
 import concurrent.futures
+import re
 import hashlib
 import logging
 import multiprocessing
@@ -246,6 +247,13 @@ def _with_reading_note(plan: StepPlan, outcome: Outcome) -> Outcome:
 
 
 _FAILING = frozenset({Verdict.FAILS, Verdict.SHAPE_ERROR, Verdict.INDEX_ERROR})
+#: Bracket sizing written between a name and its parenthesis (``\\lambda\\bigl(``).
+_SIZING = re.compile(r"\\(?:left|right|[bB]igg?[lr]?|middle)\s*$")
+#: Greek letters that stand for scalars far more often than for functions.
+_GREEK_SCALARS = tuple(
+    "\\" + g for g in ("alpha", "beta", "gamma", "delta", "epsilon", "varepsilon", "eta", "theta", "kappa",
+                       "lambda", "mu", "nu", "rho", "tau", "omega", "Lambda", "Sigma", "Omega")
+)
 
 
 def _product_reading_hint(plan: StepPlan) -> str | None:
@@ -263,8 +271,8 @@ def _product_reading_hint(plan: StepPlan) -> str | None:
             if reading.rule != "undeclared-product":
                 continue
             written = source.slice(reading.span)
-            name = written.split("(", 1)[0].replace("\\left", "").strip()
-            if name:
+            name = _SIZING.sub("", written.split("(", 1)[0]).strip()
+            if name and not name.startswith(_GREEK_SCALARS):  # λ(A + I)^{-1}: a scalar, surely
                 return (
                     f"`{written}` was read as a product; if {name} is a function, add the directive "
                     f"`function {name}`"
