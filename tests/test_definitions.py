@@ -393,3 +393,19 @@ def test_an_unreadable_chain_after_an_unsupported_step_gives_no_value():
     )
     context = document_context(text, "tex")
     assert "\\hat{w}" not in plan_at(context, 3).context.definitions
+
+
+def test_a_rightward_definition_defines_its_right_side():
+    # `y - Xw =: r` (\eqqcolon, =:) names the residual r; the left side is its value.
+    # A later wrong claim about r is then checked against it (r = y + Xw fails, y - Xw holds:
+    # common practice, the residual of a linear fit).
+    for mark in ("\\eqqcolon", "=:"):
+        text = (
+            "$X \\in \\mathbb{R}^{n\\times d}$\n\n"
+            f"$$\n\\mathbf{{y}} - X\\mathbf{{w}} {mark} \\mathbf{{r}}\n$$\n\n"
+            "$$\n\\mathbf{r} = \\mathbf{y} + X\\mathbf{w}\n$$\n\n"
+            "$$\n\\mathbf{r} = \\mathbf{y} - X\\mathbf{w}\n$$\n"
+        )
+        steps = list(api.check_text(text, kind="md").steps())
+        assert [s.verdict for s in steps] == [Verdict.DEFINES, Verdict.FAILS, Verdict.HOLDS], mark
+        assert steps[0].outcome.message == "defines r"

@@ -67,14 +67,6 @@ KNOWN: dict[str, str] = {
     "forge-die-plasticity.tex:21:48": f"{_J2}; its derivative is then unsupported ('J has no definition')",
     "forge-die-plasticity.tex:34:6": f"{_J2}; 2 gamma J_2 uses a random J_2",
     "forge-die-plasticity.tex:39:41": f"{_J2}; d J_2/dt is then unsupported ('J has no definition')",
-    "ridge-dual-derivation.tex:33:31": (
-        "`y - X w =: r` is checked as an equality instead of defining r (the symbol on the right of "
-        "\\eqqcolon); the next row's claim about r is taken as r's definition"
-    ),
-    "ridge-dual-derivation.tex:34:17": (
-        "`r = lambda (X X^T + lambda I)^{-1} y` is taken as the definition of r, so the claim is never "
-        "checked (r was already defined by =: on the row above)"
-    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -185,11 +185,13 @@ def _collect_definitions(read: Sequence[ReadChain]) -> dict[StepKey, Definition]
         reader = _reader(item.vocabulary)
         for index in range(1, len(chain.sides)):
             lhs, rhs = item.trees[index - 1], item.trees[index]
-            if rhs is None and index == 1:
+            side = chain.sides[index - 1]
+            if defs.defines_rightwards(chain.relations[index - 1]):
+                lhs, rhs, side = rhs, lhs, chain.sides[index]  # y - Xw =: r defines r
+            elif rhs is None and index == 1:
                 rhs = _closed_member(item)
             if rhs is None:
                 continue
-            side = chain.sides[index - 1]
             if lhs is not None:
                 form = defs.definition_form(lhs, side, chain.source, reader)
             elif index == 1:

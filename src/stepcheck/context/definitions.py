@@ -30,7 +30,7 @@ from dataclasses import dataclass
 from typing import Callable, Iterable, Mapping, Sequence
 
 from ..expressions import nodes as n
-from ..expressions.chains import Chain, Side
+from ..expressions.chains import Chain, Relation, Side
 from ..expressions.errors import ParseError
 from ..expressions.tokens import Token, TokenKind
 from ..expressions.vocabulary import OPERATOR_NAMES
@@ -403,6 +403,15 @@ def inline_value_note(definition: Definition, declared: Mapping[str, Declaration
         f"{name} is defined as `{value}` by this inline math (it is also declared on line {line}): the "
         f"definition holds for the whole file, and every step that uses {name} takes this value"
     )
+
+
+#: Definition relations whose defined symbol stands on the right (``y - Xw =: r``).
+RIGHTWARD_DEFINITIONS = frozenset({"\\eqqcolon", "\\eqcolon", "=:"})
+
+
+def defines_rightwards(relation: Relation) -> bool:
+    """Whether a relation defines its right side by its left (``\\eqqcolon``, ``=:``)."""
+    return relation.kind is RelationKind.DEFINE and relation.text.replace(" ", "") in RIGHTWARD_DEFINITIONS
 
 
 def defines_by_relation(kind: RelationKind, form: Form | None) -> bool:
