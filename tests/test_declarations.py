@@ -132,3 +132,17 @@ def test_an_assumption_in_a_display_is_not_checked_but_assumed():
     assert plan.assumes is not None and plan.assumes.kind is K.SPD
     assert plan.context.assumptions["\\Sigma"] == frozenset({K.SPD})
     assert plan.context.shapes.symbols["\\Sigma"][0] == plan.context.shapes.symbols["\\Sigma"][1]
+
+
+def test_an_inline_size_gets_a_note_where_it_is_fixed():
+    # "(for a single gauge, $m = 1$)" fixes the size m for the whole file (SPEC §5 sizes):
+    # worth saying, since it changes every shape with m.
+    from stepcheck import api
+
+    text = (
+        "Let $H \\in \\mathbb{R}^{m \\times n}$ (for a single gauge, $m = 1$).\n\n"
+        "$$\nG = H^\\top H\n$$\n"
+    )
+    (file,) = api.check_text(text, kind="md").files
+    messages = [(n.line, n.message) for n in file.notes]
+    assert (1, "m is fixed to 1 by this inline math: every size m in the file is 1") in messages

@@ -534,4 +534,10 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
         ContextNote(d.source, d.span, defs.inline_value_note(d, declared))
         for d in defs.inline_values(definitions.values(), used, declared)
     )
+    for letter, (size, row) in inline_sizes(structure.rows, vocabulary.dimensions).items():
+        span = row.tokens[0].span.join(row.tokens[-1].span)
+        notes.append(ContextNote(
+            row.source, span,
+            f"{letter} is fixed to {size} by this inline math: every size {letter} in the file is {size}",
+        ))
     return DocumentContext(tuple(plans), tuple(notes), dict(inference.origins))
