@@ -225,3 +225,14 @@ def _contract(coeff, order: int):
     if order == 0:
         return coeff
     return sum(_contract(coeff[j], order - 1) * X[j] for j in range(3))
+
+
+def test_a_derivative_of_an_unknown_function_set_equal_to_something_else_is_not_checked():
+    # A loss L that is never defined: "dL/dw_j = 2 r_i X_ij" names the gradient, it states no
+    # identity a random field could test (it would 'fail' for any field). div curl = 0 against
+    # zero, and an identity with the field on both sides, stay checked.
+    preamble = "$\\mathbf{w} \\in \\mathbb{R}^{d}$, $X \\in \\mathbb{R}^{n\\times d}$\n"
+    named = _step(r"\frac{\partial L}{\partial w_j} = 2 r_i X_{ij}", preamble)
+    assert named["verdict"] == "unsupported"
+    assert "only one side of the step involves it" in named["message"]
+    assert _step(r"\epsilon_{ijk}\partial_i\partial_j A_k = 0")["verdict"] == "holds"

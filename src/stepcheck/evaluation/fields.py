@@ -98,6 +98,7 @@ def promote(analysis: "Analysis", candidates: dict[str, set[str]], variables: se
     if not chosen:
         return
     orders = _orders(sides, analysis.context, frozenset(chosen))
+    _refuse_one_sided(sides, analysis.context, frozenset(chosen))
     for name, coords in sorted(chosen.items()):
         coords = {c for c in coords if _coordinate_axis(analysis, c) is not None}
         if not coords:
@@ -126,6 +127,29 @@ def promote(analysis: "Analysis", candidates: dict[str, set[str]], variables: se
         for k in range(degree + 1):
             coeff = field.coefficient(k)
             analysis.inputs[coeff] = InputSpec(coeff, field.axes + (field.coordinate_axis,) * k, coefficient_of=name)
+
+
+def _refuse_one_sided(sides: tuple[N.Node, ...], context: StepContext, names: frozenset[str]) -> None:
+    """A derivative of an unknown function set equal to an expression without it
+    (``\\frac{\\partial L}{\\partial w_j} = 2 r_i X_{ij}`` with L undefined) names that
+    derivative; it states nothing a random field could test.  An identity in the field
+    (both sides, or one side against zero: div curl = 0) is checked."""
+    if len(sides) != 2:
+        return
+    seen = [set(_orders((side,), context, names)) for side in sides]
+    for here, there, other in ((seen[0], seen[1], sides[1]), (seen[1], seen[0], sides[0])):
+        if here and not there and not _is_zero(other):
+            listed = ", ".join(sorted(here))
+            raise Unsupported(
+                f"{listed} has no definition and only one side of the step involves it: the step names "
+                f"a derivative of an unknown function, which cannot be checked (define {listed} to check it)"
+            )
+
+
+def _is_zero(node: N.Node) -> bool:
+    if isinstance(node, N.Zero):
+        return True
+    return isinstance(node, N.Number) and node.value == 0
 
 
 def _coordinate_axis(analysis: "Analysis", coordinate: str) -> "Key | None":
