@@ -727,3 +727,18 @@ def test_a_draw_that_cancels_below_working_precision_is_evaluated_again_with_mor
     assert "120 where cancellation needed them" in holds.message or "240 where cancellation needed them" in holds.message
     wrong = decide_latex(r"e^{150}(\sigma(150 + a) - 1) y_j", r"-e^{150}\sigma(-150 - a) y_j / 2", shapes={"y": ("m",)})
     assert wrong.verdict is Verdict.FAILS
+
+
+def test_orthonormal_columns_of_a_tall_matrix_are_honoured_and_impossible_sizes_passed_over():
+    # A whitening basis U in R^{d x k} with U^T U = I: P = U U^T is a projection, P P = P
+    # (standard linear algebra), but U U^T is not the identity unless k = d. Sizes with d < k
+    # admit no such U and are passed over, never used for a counterexample. numpy checks the
+    # construction on the reported counterexample.
+    shapes = {"U": ("d", "k")}
+    kinds = {"U": {"orthonormal-columns"}}
+    held = decide_latex(r"U U^\top U U^\top", r"U U^\top", shapes=shapes, assumptions=kinds)
+    assert held.verdict is Verdict.HOLDS, held.message
+    wrong = decide_latex(r"U U^\top", r"I", shapes=shapes, assumptions=kinds)
+    assert wrong.verdict is Verdict.FAILS
+    u = np.array([[float(Fraction(str(x))) for x in row] for row in wrong.counterexample["inputs"]["U"]])
+    assert u.shape[0] > u.shape[1] and np.allclose(u.T @ u, np.eye(u.shape[1]))

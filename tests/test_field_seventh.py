@@ -55,11 +55,6 @@ KNOWN: dict[str, str] = {
         "(unsupported: 'a sum of identity and ones of unknown size')"
     ),
     "attention-head-grads.md:38:76": "same: the step's left side is -(I - 1 a^T)^T y",
-    "sensor-whitening.ipynb#cell5:6:27": (
-        "U^T U = I on a d x k matrix: not sampled with orthonormal columns (and d=1, k=2 "
-        "is drawn, where U^T U = I is impossible), so U U^T U U^T = U U^T fails"
-    ),
-    "sensor-whitening.ipynb#cell5:10:130": "same: P P = P for P = U U^T with orthonormal columns",
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

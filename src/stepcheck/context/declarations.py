@@ -287,9 +287,10 @@ def _orthogonal(lhs: n.Node, rhs: n.Node) -> tuple[str, K] | None:
     for a, b in ((lhs, rhs), (rhs, lhs)):
         if isinstance(b, n.Identity) and isinstance(a, n.Mul) and len(a.factors) == 2:
             first, second = a.factors
-            name = _transpose_of(first) or _transpose_of(second)
-            if name is not None and name in (_bare(first), _bare(second)):
-                return name, K.ORTHOGONAL
+            if _transpose_of(first) is not None and _transpose_of(first) == _bare(second):
+                return _bare(second), K.ORTHONORMAL_COLUMNS  # type: ignore[return-value]
+            if _transpose_of(second) is not None and _transpose_of(second) == _bare(first):
+                return _bare(first), K.ORTHONORMAL_ROWS  # type: ignore[return-value]
     return None
 
 
@@ -439,4 +440,6 @@ def assumption_table(assumptions: Iterable[Assumption]) -> dict[str, frozenset[K
     for kinds in table.values():
         if K.SUMS_TO_ONE in kinds and kinds & {K.NONNEGATIVE, K.POSITIVE}:
             kinds.add(K.PROBABILITY)
+        if kinds & {K.ORTHONORMAL_COLUMNS, K.ORTHONORMAL_ROWS}:
+            kinds.add(K.ORTHOGONAL)  # what a square one is; the sampler reads the direction
     return {name: frozenset(kinds) for name, kinds in table.items()}

@@ -25,6 +25,9 @@ from ..diagnostics import Diagnostic
 from ..expressions import nodes as n
 from ..source import SourceText
 from .declarations import SQUARE_KINDS
+from .model import AssumptionKind
+
+_ORTHONORMAL = frozenset({AssumptionKind.ORTHONORMAL_COLUMNS, AssumptionKind.ORTHONORMAL_ROWS})
 from .model import Assumption, AssumptionKind, Declaration, ShapeTable, StepOptions
 from .options import Note
 
@@ -84,6 +87,11 @@ def infer_shapes(
     for assumption in assumptions:
         if assumption.kind in SQUARE_KINDS:
             env.entry(assumption.name, assumption.source, assumption.span).square = True
+        elif assumption.kind in _ORTHONORMAL:
+            # Q^T Q = I: square unless a declaration made it tall or wide (U ∈ R^{d×k})
+            entry = env.entry(assumption.name, assumption.source, assumption.span)
+            if entry.shape is None:
+                entry.square = True
     settled = [u for u in units if u.defines is not None or u.assumes]
     _settle(env, settled)
     _settle(env, units)

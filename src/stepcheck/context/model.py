@@ -44,6 +44,10 @@ class AssumptionKind(enum.Enum):
     ONE_HOT = "one-hot"
     INTEGER = "integer"
     SUMS_TO_ONE = "sums-to-one"
+    ORTHONORMAL_COLUMNS = "orthonormal-columns"
+    """``U^\\top U = I``: orthogonal when square, else a tall matrix with orthonormal columns."""
+    ORTHONORMAL_ROWS = "orthonormal-rows"
+    """``U U^\\top = I``: orthogonal when square, else a wide matrix with orthonormal rows."""
 
 
 @dataclass(frozen=True, slots=True)

@@ -34,7 +34,7 @@ from .values import EvaluationError, ONE, ZERO, AnyValue, obj_array
 
 #: How structure assumptions are honoured, strongest first.
 _STRUCTURES = (
-    K.ORTHOGONAL, K.SPD, K.PSD, K.PROBABILITY, K.ONE_HOT, K.SUMS_TO_ONE,
+    K.ORTHONORMAL_COLUMNS, K.ORTHONORMAL_ROWS, K.ORTHOGONAL, K.SPD, K.PSD, K.PROBABILITY, K.ONE_HOT, K.SUMS_TO_ONE,
     K.SYMMETRIC, K.SKEW, K.DIAGONAL, K.LOWER_TRIANGULAR, K.UPPER_TRIANGULAR,
 )
 
@@ -182,6 +182,8 @@ class Drawer:
     def _member(self, shape: tuple[int, ...], kinds: frozenset[K]) -> np.ndarray:
         structure = next((k for k in _STRUCTURES if k in kinds), None)
         square = len(shape) == 2 and shape[0] == shape[1]
+        if structure in _ORTHONORMAL and len(shape) == 2:
+            return self._orthonormal(shape, kinds)
         if structure is None or (structure not in _VECTOR_STRUCTURES and not square):
             return obj_array(shape, lambda i: self._entry(kinds))
         value = _BUILDERS[structure](self, shape, kinds)
@@ -221,6 +223,24 @@ class Drawer:
         q = (eye - m_s) * (eye + m_s).inv()  # I + S is invertible for skew S
         return obj_array(shape, lambda i: q[i[0], i[1]])
 
+    def _orthonormal(self, shape, kinds):
+        """``U^\\top U = I`` on a tall U (or ``U U^\\top = I`` on a wide one): the leading columns
+        (rows) of an orthogonal matrix.  The other way round no matrix exists: these sizes are
+        passed over."""
+        from .deciding import AssignmentOutOfDomain
+
+        rows, cols = shape
+        columns = K.ORTHONORMAL_COLUMNS in kinds
+        if rows == cols:
+            return self._orthogonal(shape, kinds)
+        if (rows < cols) if columns else (rows > cols):
+            what = "orthonormal columns need at least as many rows as columns" if columns else (
+                "orthonormal rows need at least as many columns as rows")
+            raise AssignmentOutOfDomain(f"no matrix of these sizes is allowed: {what}")
+        big = max(rows, cols)
+        q = self._orthogonal((big, big), kinds)
+        return q[:, :cols].copy() if rows > cols else q[:rows, :].copy()
+
     def _diagonal(self, shape, kinds):
         return obj_array(shape, lambda i: self._entry(kinds) if i[0] == i[1] else ZERO)
 
@@ -249,6 +269,7 @@ class Drawer:
 
 
 _VECTOR_STRUCTURES = frozenset({K.PROBABILITY, K.ONE_HOT, K.SUMS_TO_ONE})
+_ORTHONORMAL = frozenset({K.ORTHONORMAL_COLUMNS, K.ORTHONORMAL_ROWS})
 _BUILDERS = {
     K.ORTHOGONAL: Drawer._orthogonal,
     K.SPD: Drawer._spd,
