@@ -742,3 +742,18 @@ def test_orthonormal_columns_of_a_tall_matrix_are_honoured_and_impossible_sizes_
     assert wrong.verdict is Verdict.FAILS
     u = np.array([[float(Fraction(str(x))) for x in row] for row in wrong.counterexample["inputs"]["U"]])
     assert u.shape[0] > u.shape[1] and np.allclose(u.T @ u, np.eye(u.shape[1]))
+
+
+def test_an_identity_minus_a_repeated_row_takes_its_size_from_the_row():
+    # The softmax-with-targets gradient: d/ds of -y^T log softmax(s) has the factor (I - 1a^T);
+    # -(I - 1 a^T)^T y = a 1^T y - y (common practice; numpy below). The identity's size comes
+    # from the row a^T beside it; the twin with the sign of y flipped fails.
+    shapes = {"a": ("n",), "y": ("n",)}
+    held = decide_latex(r"-(I - \mathbf{1}\mathbf{a}^\top)^\top \mathbf{y}", r"\mathbf{a}\mathbf{1}^\top\mathbf{y} - \mathbf{y}", shapes=shapes)
+    assert held.verdict is Verdict.HOLDS, held.message
+    wrong = decide_latex(r"-(I - \mathbf{1}\mathbf{a}^\top)^\top \mathbf{y}", r"\mathbf{a}\mathbf{1}^\top\mathbf{y} + \mathbf{y}", shapes=shapes)
+    assert wrong.verdict is Verdict.FAILS
+    rng = np.random.default_rng(3)
+    a, y = rng.normal(size=4), rng.normal(size=4)
+    ones = np.ones(4)
+    assert np.allclose(-(np.eye(4) - np.outer(ones, a)).T @ y, a * (ones @ y) - y)

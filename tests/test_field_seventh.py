@@ -49,13 +49,7 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-KNOWN: dict[str, str] = {
-    "attention-head-grads.md:38:25": (
-        "I - 1 a^T: the identity is not sized from the n x n outer product beside it "
-        "(unsupported: 'a sum of identity and ones of unknown size')"
-    ),
-    "attention-head-grads.md:38:76": "same: the step's left side is -(I - 1 a^T)^T y",
-}
+KNOWN: dict[str, str] = {}
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
 KNOWN_EXTRA: dict[str, str] = {}

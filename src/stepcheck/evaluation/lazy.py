@@ -25,7 +25,7 @@ import numpy as np
 import sympy
 
 from ..expressions import nodes as N
-from .values import AnyValue, LazyValue, ShapeMismatch, UnknownSize, Unsupported, Value, obj_array
+from .values import AnyValue, LazyValue, ShapeMismatch, UnknownSize, Unsupported, Value, make_value, obj_array
 
 #: Kinds that may be terms of a square ``"sum"``.
 _SQUARE_TERMS = ("eye", "ones-matrix")
@@ -36,7 +36,7 @@ def terms_of(value: LazyValue) -> tuple[LazyValue, ...]:
     return value.parts if value.kind == "sum" else (value,)
 
 
-def lazy_sum(lazies: list[LazyValue], node: N.Node) -> LazyValue:
+def lazy_sum(lazies: list[LazyValue], node: N.Node) -> AnyValue:
     """The sum of unsized values (no sized term is present).
 
     :raises Unsupported: terms that cannot share a size (an identity and a ones vector).
@@ -53,6 +53,13 @@ def lazy_sum(lazies: list[LazyValue], node: N.Node) -> LazyValue:
         if len(rows) > 1:
             raise ShapeMismatch("a sum of a ones column and a ones row", node.span)
         return LazyValue("ones", sympy.Add(*[t.factor for t in terms]), rows.pop())
+    if "tile" in kinds and "eye" in kinds and kinds <= {"tile", *_SQUARE_TERMS}:
+        # I - 1a^T: the identity makes the sum square, the repeated row a^T tells its width
+        known = {t.template.shape[1] if t.row else t.template.shape[0] for t in terms if t.kind == "tile"}
+        if len(known) == 1:
+            n = known.pop()
+            values = [t.materialize((n, n)) for t in terms]
+            return make_value(obj_array((n, n), lambda i: sympy.Add(*[v.data[i] for v in values])))
     if not kinds <= set(_SQUARE_TERMS):
         raise Unsupported("a sum of identity and ones of unknown size", node.span)
     parts = tuple(
@@ -71,7 +78,7 @@ def _tile_sum(terms: list[LazyValue], node: N.Node) -> LazyValue:
     return LazyValue("tile", row=first.row, template=template)
 
 
-def lazy_times_lazy(a: LazyValue, b: LazyValue, node: N.Node) -> LazyValue:
+def lazy_times_lazy(a: LazyValue, b: LazyValue, node: N.Node) -> AnyValue:
     """The product of two unsized values.
 
     :raises Unsupported: the product needs the length of a ones vector (``1^\\top 1``).
