@@ -147,8 +147,9 @@ def test_positivity_of_components_keeps_them_independent_positive_scalars(displa
     context = document_context(text)
     plan = plan_at(context, 4)
     assert plan.findings == ()
-    assert "R" not in plan.context.shapes.symbols  # seen only with numeric subscripts
-    assert plan.context.assumptions["R"] == frozenset({K.POSITIVE})
+    assert "R" not in plan.context.shapes.symbols  # seen only with numeric subscripts: R_1, R_2 are
+    for name in ("R_{1}", "R_{2}"):                 # scalars of their own (rule numbered-name),
+        assert plan.context.assumptions[name] == frozenset({K.POSITIVE})  # both stated positive
 
 
 def test_a_component_without_a_stated_sign_is_drawn_with_either_sign():

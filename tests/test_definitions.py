@@ -409,3 +409,20 @@ def test_a_rightward_definition_defines_its_right_side():
         steps = list(api.check_text(text, kind="md").steps())
         assert [s.verdict for s in steps] == [Verdict.DEFINES, Verdict.FAILS, Verdict.HOLDS], mark
         assert steps[0].outcome.message == "defines r"
+
+
+def test_a_letter_written_only_with_numbers_names_scalars_that_can_be_defined():
+    # The second stress invariant J_2 = (1/2) s_kl s_kl of a deviator (common practice in
+    # plasticity): J appears only as J_2, so J_2 is a scalar of its own and its first step
+    # defines it; dJ_2/ds_ij = s_ij then holds and a lost 1/2 fails (sympy.diff of
+    # (1/2) sum s_kl^2 by s_ij is s_ij).
+    text = (
+        "$s \\in \\mathbb{R}^{3 \\times 3}$\n\n$$\nJ_2 = \\tfrac12 s_{kl} s_{kl}\n$$\n\n"
+        "$$\n\\frac{\\partial J_2}{\\partial s_{ij}} = s_{ij}\n$$\n\n"
+        "$$\n\\frac{\\partial J_2}{\\partial s_{ij}} = 2 s_{ij}\n$$\n"
+    )
+    steps = list(api.check_text(text, kind="md").steps())
+    assert [s.verdict for s in steps] == [Verdict.DEFINES, Verdict.HOLDS, Verdict.FAILS]
+    # a letter also written with an index stays a tensor: x_1 is a component of x
+    text = "$$\nx_1 = x_i \\delta_{i1}\n$$\n"
+    assert [s.verdict for s in api.check_text(text, kind="md").steps()] == [Verdict.HOLDS]

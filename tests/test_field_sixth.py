@@ -54,19 +54,15 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
-_J2 = (
-    "numeric-subscript name J_2 is read as a component input of an undefined J, so its first "
-    "chain is not a definition"
-)
 KNOWN: dict[str, str] = {
     "membrane-rates.tex:32:41": (
         "d/dt of psi (an expression in the defined E) expands E down to F and, finding no \\dot{F}, "
         "differentiates to 0 instead of taking \\dot{E} as the rate of E"
     ),
-    "forge-die-plasticity.tex:15:10": f"{_J2} (checked as an equality with J_2 drawn at random)",
-    "forge-die-plasticity.tex:21:48": f"{_J2}; its derivative is then unsupported ('J has no definition')",
-    "forge-die-plasticity.tex:34:6": f"{_J2}; 2 gamma J_2 uses a random J_2",
-    "forge-die-plasticity.tex:39:41": f"{_J2}; d J_2/dt is then unsupported ('J has no definition')",
+    "forge-die-plasticity.tex:39:41": (
+        "t is also the traction vector t_i defined on line 25, so d/dt reads as a derivative by that "
+        "vector (shape-error 1x3 against a scalar); the author means time: a notation clash"
+    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

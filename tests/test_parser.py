@@ -35,7 +35,7 @@ SHOWN_AS_TENSORS = {"subscript-index"}
 
 _OPTION_KEYS = {
     "functions": "functions", "dimensions": "dimensions", "labels": "labels",
-    "index": "index_letters", "tensors": "tensors",
+    "index": "index_letters", "tensors": "tensors", "numbered": "numbered",
 }
 
 

@@ -21,7 +21,7 @@ from ..diagnostics import Diagnostic
 from ..expressions.chains import Chain, Step, Structure
 from ..expressions.errors import ParseError, UnsupportedConstruct
 from ..expressions import nodes
-from ..expressions.nodes import Node
+from ..expressions.nodes import Fixed, Node, Symbol
 from ..expressions.tokens import Token
 from ..settings import Settings
 from ..source import SourceText, Span
@@ -481,6 +481,25 @@ def _homes(
     return heights.home_heights(declared, defined, uses, vocabulary.metric, families)
 
 
+def _numbered_names(read: Sequence[ReadChain], facts: RowFacts) -> frozenset[str]:
+    """Names written only with numeric subscripts anywhere in the math (``J_2``, ``R_1``),
+    never bare, bold, with an index or declared: each numbered one is a scalar of its own
+    (rule ``numbered-name``), so ``J_2 = \\tfrac12 s_{kl}s_{kl}`` can define it."""
+    only: dict[str, bool] = {}
+    for item in read:
+        for tree in item.trees:
+            if tree is None:
+                continue
+            for node in tree.walk():
+                if isinstance(node, Symbol):
+                    numbered = bool(node.subs) and not node.bold and all(
+                        isinstance(s, Fixed) and isinstance(s.value, int) and not s.up for s in node.subs
+                    )
+                    only[node.name] = only.get(node.name, True) and numbered
+    declared = {d.name for d in facts.declarations}
+    return frozenset(name for name, numbered in only.items() if numbered and name not in declared)
+
+
 def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     """Read every side, collect declarations, assumptions and definitions, infer shapes,
     and plan every display step.
@@ -494,6 +513,12 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     facts: RowFacts = read_rows(structure.rows, structure.directives, _reader(vocabulary), vocabulary)
     vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | {d.name for d in facts.declarations})
     read = _read_all(structure, timeline, vocabulary)
+    numbered = _numbered_names(read, facts)
+    if numbered:
+        vocabulary = dataclasses.replace(vocabulary, numbered=numbered)
+        facts = read_rows(structure.rows, structure.directives, _reader(vocabulary), vocabulary)
+        vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | {d.name for d in facts.declarations})
+        read = _read_all(structure, timeline, vocabulary)
     definitions = _collect_definitions(read)
     taught = _taught(vocabulary, list(definitions.values()))
     if taught != vocabulary:

@@ -367,10 +367,23 @@ def _segments(tokens: Sequence[Token]) -> list[list[Token]]:
 def relation_assumptions(row: Row, read: Reader) -> list[Assumption]:
     """Assumption forms in an inline row (``$A = A^\\top$``, ``$\\Sigma \\succ 0$``)."""
     found: list[Assumption] = []
+    listed: list[tuple[str, Span]] = []
+    """Bare symbols listed before a statement (``R_1, R_2 > 0``): it is about them too."""
     for segment in _segments(row.tokens):
         depths = _depths(segment)
         at = [k for k, t in enumerate(segment) if depths[k] == 0 and t.text in _RELATION_TEXTS and t.kind in (TokenKind.SYMBOL, TokenKind.COMMAND)]
-        if not at or at[0] == 0 or at[-1] == len(segment) - 1 or any(b == a + 1 for a, b in zip(at, at[1:])):
+        if not at:
+            try:
+                alone = _bare(read(segment, row.source))
+            except ParseError:
+                alone = None
+            if alone is None:
+                listed.clear()
+            else:
+                listed.append((alone, Span(segment[0].span.start, segment[-1].span.end)))
+            continue
+        if at[0] == 0 or at[-1] == len(segment) - 1 or any(b == a + 1 for a, b in zip(at, at[1:])):
+            listed.clear()
             continue
         bounds = [-1] + at + [len(segment)]
         try:
@@ -391,6 +404,9 @@ def relation_assumptions(row: Row, read: Reader) -> list[Assumption]:
             stated = assumption_of(lhs, rhs, segment[at[i]].text)
             if stated is not None:
                 found.append(Assumption(stated[0], stated[1], row.source, span, states_components(lhs)))
+                if left == 0 and i == 0 and segment[at[0]].text in ZERO_RELATIONS:
+                    found.extend(Assumption(name, stated[1], row.source, where) for name, where in listed)
+        listed.clear()
     return found
 
 

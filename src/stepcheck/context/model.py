@@ -83,6 +83,9 @@ class Vocabulary:
     """Superscript letters are indices (``indices up-down``)."""
     one_based: bool = True
     """Numeric subscripts count from 1."""
+    numbered: frozenset[str] = frozenset()
+    """Names the document writes only with numeric subscripts (``J_2``, ``R_1``, ``\\beta_0``):
+    each numbered symbol is a scalar of its own, named with its number (``J_{2}``)."""
 
 
 #: A dimension: a letter (``"n"``), a fresh name (``"_3"``), or a fixed size.

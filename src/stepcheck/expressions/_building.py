@@ -94,6 +94,13 @@ class SymbolBuilding:
             symbol_span = symbol_span.join(scripts.prime_span)
         if primes:
             self.note("prime", symbol_span, f"{base.name}{chr(39) * primes} is a symbol of its own")
+        if subs and base.name in self.vocab.numbered and not base.bold and all(
+            isinstance(s, n.Fixed) and isinstance(s.value, int) and not s.up for s in subs
+        ):
+            # rule numbered-name: J_2 in a file that never writes J otherwise is a scalar named J_2
+            labels.append(",".join(self.s.text_of(s.span) for s in subs))
+            self.note("numbered-name", symbol_span, f"{base.name} is only ever numbered: the number is part of the name")
+            subs = []
         named = bool(labels or sup_label or primes)
         name = base.name + "'" * primes
         if labels:
