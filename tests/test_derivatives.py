@@ -323,3 +323,21 @@ def test_a_partial_time_derivative_ignores_rates_and_a_second_total_one_is_unsup
     second = decide_latex(r"\frac{d^2}{dt^2}\left(\mathbf{x}^\top\mathbf{x}\right)", r"2\dot{\mathbf{x}}^\top\dot{\mathbf{x}}",
                           shapes=shapes)
     assert second.verdict is Verdict.UNSUPPORTED and "second total derivative" in second.message
+
+
+def test_a_rate_written_for_a_defined_symbol_is_the_rate_of_that_symbol():
+    # A membrane's Green strain E = (F^T F - I)/2 is defined; with \dot{E} written, d psi/dt of
+    # psi = mu tr(E^2) is 2 mu E_ij Edot_ij through E (the chain rule through E, common
+    # practice), not through F (no \dot{F} is written). sympy.diff along E0 + t Edot agrees:
+    t, mu = sympy.symbols("t mu")
+    E0 = sympy.Matrix(2, 2, lambda i, j: sympy.Rational(i + j + 1, 3))
+    Edot = sympy.Matrix(2, 2, lambda i, j: sympy.Rational(2 * i - j, 7))
+    psi = mu * ((E0 + t * Edot) ** 2).trace()
+    assert sympy.expand(sympy.diff(psi, t).subs(t, 0) - 2 * mu * sum(E0[i, j] * Edot[i, j] for i in range(2) for j in range(2))) == 0
+
+    shapes = {"F": ("n", "n"), "E": ("n", "n"), "\\dot{E}": ("n", "n")}
+    definitions = {"E": r"\tfrac12(F^\top F - I)", "\\psi": r"\mu \operatorname{tr}(E^2)"}
+    held = decide_latex(r"\frac{\mathrm{d}\psi}{\mathrm{d}t}", r"2\mu E_{ij}\dot{E}_{ij}", shapes=shapes, definitions=definitions)
+    assert held.verdict is Verdict.HOLDS, held.message
+    lost = decide_latex(r"\frac{\mathrm{d}\psi}{\mathrm{d}t}", r"\mu E_{ij}\dot{E}_{ij}", shapes=shapes, definitions=definitions)
+    assert lost.verdict is Verdict.FAILS

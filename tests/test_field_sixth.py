@@ -55,10 +55,6 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "membrane-rates.tex:32:41": (
-        "d/dt of psi (an expression in the defined E) expands E down to F and, finding no \\dot{F}, "
-        "differentiates to 0 instead of taking \\dot{E} as the rate of E"
-    ),
     "forge-die-plasticity.tex:39:41": (
         "t is also the traction vector t_i defined on line 25, so d/dt reads as a derivative by that "
         "vector (shape-error 1x3 against a scalar); the author means time: a notation clash"

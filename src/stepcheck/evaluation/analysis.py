@@ -193,6 +193,11 @@ class Walker:
     # ------------------------------------------------------------------ entry
 
     def run(self, *sides: N.Node) -> Analysis:
+        self._rated = frozenset(
+            node.name[len("\\dot{"):-1]
+            for side in sides for node in side.walk()
+            if isinstance(node, N.Symbol) and node.name.startswith("\\dot{") and node.name.endswith("}")
+        )
         for side in sides:
             self.visit(side, scope=(("main",),), frozen=frozenset(), bound_names=frozenset(), in_diff=False)
         self._tie_metric()
@@ -321,6 +326,9 @@ class Walker:
     def visit_Derivative(self, node: N.Derivative, scope, frozen, bound_names, in_diff) -> None:
         self.a.differentiates = True
         names = frozenset(v.target.name for v in node.wrt if v.target.name in self.context.definitions)
+        if node.total and len(node.wrt) == 1 and not node.wrt[0].target.subs:
+            # d psi/dt with \dot{E} written: a defined E is the variable the rate belongs to
+            names |= frozenset(b for b in self._rated if b in self.context.definitions) - {node.wrt[0].target.name}
         self._visit_chain_definitions(names, node, frozen, in_diff)
         found = field_candidate(node, self.context.definitions, frozen | names, bound_names)
         if found is not None:

@@ -118,7 +118,8 @@ def _symbolic(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) -> Value:
     chain = frozenset(n for n in names if n in lw.context.definitions)
     rates = _rates(lw, node, wrt)
     fields = frozenset(lw.model.analysis.fields)  # functions of their coordinate: never placeholders
-    inner = replace(st, keep=(st.keep or frozenset()) | names | frozenset(rates) | fields, frozen=st.frozen | chain)
+    rated = frozenset(b for b in rates if b in lw.context.definitions)  # E = ½(FᵀF - I) with \dot{E}
+    inner = replace(st, keep=(st.keep or frozenset()) | names | frozenset(rates) | fields, frozen=st.frozen | chain | rated)
     if not refuse_other_variable(lw, node.expr, wrt):
         _refuse_bare(lw, node.expr, names, inner)
     f = before = lw.lower_value(node.expr, inner)
