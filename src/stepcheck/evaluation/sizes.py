@@ -5,7 +5,7 @@ A class with none — index ranges of symbols without a declared shape, the rang
 Levi-Civita symbol fixes to its order, the 3-vectors of a cross product — is not
 named after an index letter in a message (``i=3`` reads as a component): it is a bare
 size with what fixed it, ``at size 3 (Levi-Civita)``, ``at sizes 2 and 3``, and after
-named ones ``n=2, other 3``.  In a
+named ones ``n=2 with other axes 3``.  In a
 counterexample's ``sizes`` object such a class is keyed by its index letters
 (``"i,j,k": 3``), which say which indices range over it.
 """
@@ -69,10 +69,10 @@ def size_classes(analysis: Analysis) -> list[SizeClass]:
 
 def sizes_text(model: Model) -> str:
     """One assignment: ``n=2,d=3``; unnamed classes as bare sizes, with what fixed them
-    (``3 (Levi-Civita)``); a mix as ``n=2, other 3``; ``""`` for scalars."""
+    (``3 (Levi-Civita)``); a mix as ``n=2 with other axes 3``; ``""`` for scalars."""
     named, unnamed = _split(model)
     if named and unnamed:
-        return f"{named}, other {', '.join(unnamed)}"
+        return f"{named} with other axes {', '.join(unnamed)}"
     return named or ", ".join(unnamed)
 
 
