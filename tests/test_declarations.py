@@ -70,6 +70,9 @@ ASSUMPTIONS = [
     # of an all-"=" prefix takes the later relations (Σ = Σᵀ ≻ 0: Σ ≻ 0)
     ("chained-symmetric-spd", r"$\Sigma = \Sigma^\top \succ 0$", "\\Sigma", {K.SYMMETRIC, K.SPD}),
     ("chained-bounds", r"a rate $0 < \beta < 1$", "\\beta", {K.POSITIVE}),
+    ("unit-interval", r"a rate $\beta \in (0,1)$", "\\beta", {K.UNIT_INTERVAL, K.POSITIVE}),
+    ("unit-interval-closed", r"$\rho \in [0, 1]$ and more", "\\rho", {K.UNIT_INTERVAL, K.POSITIVE}),
+    ("positive-interval", r"$\lambda \in (0, \infty)$", "\\lambda", {K.POSITIVE}),
 ]
 
 

@@ -448,3 +448,14 @@ def test_an_indefinite_quadratic_form_fails_on_small_integers(seed):
     x = inputs["x"].reshape(-1, 1)
     inputs = {k: v.reshape(int(round(n ** 0.5)), -1) if k != "x" else v for k, v in inputs.items()}
     assert (x.T.dot(inputs["K"] - inputs["M"]).dot(x)).item() < 0
+
+
+def test_a_rate_in_the_unit_interval_is_drawn_inside_it():
+    # beta in (0, 1) (an optimiser's moving-average rate): draws and counterexamples stay in the
+    # stated interval, so the sign slip in (1 - beta)(m - g) is shown at a beta a reader accepts.
+    outcome = decide_latex(r"\hat{m} - m", r"(1 - \beta)(m - g)", shapes={"m": ("p",), "g": ("p",)},
+                           assumptions={"\\beta": {"unit-interval", "positive"}},
+                           definitions={"\\hat{m}": r"\beta m + (1 - \beta) g"})
+    assert outcome.verdict is Verdict.FAILS
+    beta = Fraction(outcome.counterexample["inputs"]["\\beta"])
+    assert 0 < beta < 1

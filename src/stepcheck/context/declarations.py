@@ -194,6 +194,14 @@ def read_declarations(row: Row, read: Reader) -> tuple[list[Declaration], list[A
         spec = read_set(tokens, k + 1)
         items = _names_before(tokens, start, k, depths)
         if spec is None:
+            interval = _interval(tokens, k + 1)
+            if interval is not None:
+                kind, end = interval
+                span = Span(items[0][0].span.start if items else token.span.start, tokens[end - 1].span.end)
+                for item in _symbols(items, row.source, read):
+                    assumptions.append(Assumption(item.name, kind, row.source, span, states_components(item)))
+                start = end
+                continue
             start = k + 1
             continue
         start = spec.end
@@ -207,6 +215,19 @@ def read_declarations(row: Row, read: Reader) -> tuple[list[Declaration], list[A
             if meaning[1] is not None:
                 assumptions.append(Assumption(item.name, meaning[1], row.source, span, states_components(item)))
     return declarations, assumptions, notes
+
+
+#: Intervals read after ``\\in`` (either bracket at either end): what they assume.
+_INTERVALS = {("0", "1"): K.UNIT_INTERVAL, ("0", "\\infty"): K.POSITIVE}
+
+
+def _interval(tokens: Sequence[Token], k: int) -> tuple[K, int] | None:
+    """``(0, 1)``, ``[0, 1]``, ``(0, \\infty)`` at ``tokens[k]``: its assumption and the end."""
+    five = tokens[k : k + 5]
+    if len(five) != 5 or not five[0].is_symbol("(", "[") or not five[2].is_symbol(",") or not five[4].is_symbol(")", "]"):
+        return None
+    kind = _INTERVALS.get((five[1].text, five[3].text))
+    return (kind, k + 5) if kind is not None else None
 
 
 def declared_symbols(row: Row, read: Reader) -> list[n.Symbol]:
@@ -456,6 +477,8 @@ def assumption_table(assumptions: Iterable[Assumption]) -> dict[str, frozenset[K
     for kinds in table.values():
         if K.SUMS_TO_ONE in kinds and kinds & {K.NONNEGATIVE, K.POSITIVE}:
             kinds.add(K.PROBABILITY)
+        if K.UNIT_INTERVAL in kinds:
+            kinds.add(K.POSITIVE)  # what domains (logs, roots) need to know
         if kinds & {K.ORTHONORMAL_COLUMNS, K.ORTHONORMAL_ROWS}:
             kinds.add(K.ORTHOGONAL)  # what a square one is; the sampler reads the direction
     return {name: frozenset(kinds) for name, kinds in table.items()}

@@ -44,6 +44,8 @@ class AssumptionKind(enum.Enum):
     ONE_HOT = "one-hot"
     INTEGER = "integer"
     SUMS_TO_ONE = "sums-to-one"
+    UNIT_INTERVAL = "unit-interval"
+    """``\\beta \\in (0, 1)``: entries strictly between 0 and 1 (also positive)."""
     ORTHONORMAL_COLUMNS = "orthonormal-columns"
     """``U^\\top U = I``: orthogonal when square, else a tall matrix with orthonormal columns."""
     ORTHONORMAL_ROWS = "orthonormal-rows"

@@ -149,6 +149,9 @@ class Drawer:
 
     def _entry(self, kinds: frozenset[K]) -> Any:
         r = self.rng
+        if K.UNIT_INTERVAL in kinds:  # strictly between 0 and 1: 1/2, 1/3, 2/3 … (small), p/q ≤ 8/9
+            q = r.randint(2, 4 if self.small else 9)
+            return sympy.Rational(r.randint(1, q - 1), q)
         if self.small:
             # a counterexample a person can check: entries 0 and 1 in the first three draws
             # (e^{-kt} at k = 0 is 1), then -1 … 2 in two, then -2 … 3
