@@ -53,6 +53,12 @@ KNOWN: dict[str, str] = {
         "same cause: the previous row's v_k dh_k/dW_ij is read without summation because a later row "
         "of the chain says (no sum)"
     ),
+    "whitening-contrastive.md:64:6": (
+        "a display under `skip` still defines: the skipped initialisation m = 0 replaces the declared "
+        "vector m by a scalar 0, so beta_1 m + (1 - beta_1) g becomes a scalar-plus-vector shape-error"
+    ),
+    "whitening-contrastive.md:65:6": "same cause: the skipped display m = 0 still defines m",
+    "whitening-contrastive.md:66:6": "same cause: the skipped display m = 0 still defines m (expected fails, not shape-error)",
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
