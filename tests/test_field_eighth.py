@@ -10,7 +10,9 @@ conduction in a spreader plate (``\\partial_i``, eqnarray, an integral), continu
 identities in a mixing tank, a gasket's thermoelastic free energy with numbered constants
 (``c_1``, ``T_0``), Gaussian-process evidence gradients with trace, log-det and Kronecker/vec
 identities, a drone altimeter's Kalman update (Joseph form, Woodbury, argmin), and a dome panel
-in up-down index notation with a metric. The preambles define macros with arguments, optional
+in up-down index notation with a metric; then a delta-rule note with back-propagated error
+signals and Kronecker-product facts, a crane jib's strain/rotation split with a cantilever element,
+and a loom log's centering matrix. The preambles define macros with arguments, optional
 defaults, ``\\def``, ``\\providecommand``, ``\\renewcommand`` and ``\\DeclareMathOperator``.
 
 Each document has a sidecar ``NAME.expected.json``: entries ``{"line", "column", "verdict",
@@ -56,6 +58,10 @@ KNOWN: dict[str, str] = {
     "thermo-potential-gasket.tex:24:15": "empty optional default \\partial^{}: parse-error",
     "thermo-potential-gasket.tex:25:16": "cascade: sigma taken from the mistaken line-22 row (the line-20 definition was not read), so a right trace fails",
     "thermo-potential-gasket.tex:29:5": "cascade: s has no definition (line 19 not read), so e = psi + T s is checked with a random s",
+    "crane-jib-continuum.tex:19:6": "derivative reach: \\partial_i u_j\\, \\partial_i u_j is read as d_i(u_j d_i u_j), not a product of two gradients",
+    "crane-jib-continuum.tex:33:24": "I declared by E, I > 0 (second moment of area) is still the identity, so 3EI in a denominator is a shape-error",
+    "crane-jib-continuum.tex:34:7": "I declared by E, I > 0 is still read as the identity: shape-error in the denominator",
+    "crane-jib-continuum.tex:34:42": "I declared by E, I > 0 is still read as the identity: shape-error hides the factor-2 failure",
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.
