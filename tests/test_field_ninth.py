@@ -45,14 +45,6 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "rnn-tanh-backprop.md:19:6": (
-        "a (no sum) annotation on a later row of the chain switches the whole chain to explicit "
-        "summation, so v_k dh_k/dW_ij keeps k free in a row that has no annotation"
-    ),
-    "rnn-tanh-backprop.md:20:6": (
-        "same cause: the previous row's v_k dh_k/dW_ij is read without summation because a later row "
-        "of the chain says (no sum)"
-    ),
     "whitening-contrastive.md:64:6": (
         "a display under `skip` still defines: the skipped initialisation m = 0 replaces the declared "
         "vector m by a scalar 0, so beta_1 m + (1 - beta_1) g becomes a scalar-plus-vector shape-error"

@@ -503,3 +503,19 @@ def test_every_step_points_at_its_right_side_as_written(pieces: list[str]) -> No
             assert step.lhs.span.end <= step.relation.span.start <= step.relation.span.end <= start
     for entry in s.unreadable:
         assert 0 <= entry.span.start < len(text)
+
+
+def test_a_no_sum_annotation_belongs_to_the_steps_on_its_row():
+    # SPEC §7: a row annotated (no sum) is read without implicit summation. A step whose sides
+    # and relation stand on other rows keeps Einstein's rule; a step with a side on the marked
+    # row is read elementwise.
+    from stepcheck import api
+
+    text = (
+        "$\\mathbf{v}, \\mathbf{w} \\in \\mathbb{R}^{r}$\n\n"
+        "$$\\begin{aligned} \\mathbf{v}^\\top \\mathbf{w} &= v_k w_k \\\\ &= \\sum_k v_k w_k \\\\ "
+        "&= v_k w_k \\qquad \\text{(no sum)} \\end{aligned}$$\n\n"
+        "$$\n\\begin{aligned}\ny_i &= w_i x_i \\quad \\text{(no sum)} \\\\\n &= x_i w_i\n\\end{aligned}\n$$\n"
+    )
+    verdicts = [s.verdict.value for s in api.check_text(text, kind="md").steps()]
+    assert verdicts == ["holds", "holds", "index-error", "defines", "holds"]

@@ -200,7 +200,7 @@ def _collect_definitions(read: Sequence[ReadChain]) -> dict[StepKey, Definition]
                 form = None
             if form is None or not _is_definition(item, index, form, lhs, rhs, latest):
                 continue
-            no_sum = chain.no_sum or item.options.summation is Summation.EXPLICIT
+            no_sum = chain.step_no_sum(index) or item.options.summation is Summation.EXPLICIT
             definition = Definition(
                 form.name, form.indices, form.params, rhs, chain.source,
                 side.span, chain.order, item.display, no_sum,
@@ -430,7 +430,7 @@ def _plan(item: ReadChain, index: int, doc: _Document) -> StepPlan:
         shapes=doc.inference.table,
         assumptions=doc.assumptions,
         definitions=in_force,
-        no_sum=chain.no_sum,
+        no_sum=chain.step_no_sum(index),
         premises=_premises_of(lhs, rhs, in_force, doc.premises) if lhs is not None and rhs is not None else (),
     )
     findings: list[Diagnostic] = []

@@ -58,6 +58,13 @@ class Chain:
     """Per step: a ``skip`` directive, or ``off``, applies to it."""
     order: int
     """Document order of the display the chain came from."""
+    no_sum_steps: tuple[bool, ...] = ()
+    """Per step: a row the step's sides or relation stand on carries ``\\text{(no sum)}``
+    (SPEC §7: the annotation is the row's); empty means ``no_sum`` for every step."""
+
+    def step_no_sum(self, index: int) -> bool:
+        """Whether step ``index`` (1-based) is read without implicit summation."""
+        return self.no_sum_steps[index - 1] if self.no_sum_steps else self.no_sum
 
 
 @dataclass(frozen=True, slots=True)

@@ -44,6 +44,7 @@ class _Entry:
     draft: Union[ChainDraft, DraftError]
     no_sum: bool = False
     skipped: tuple[bool, ...] = ()
+    no_sum_steps: tuple[bool, ...] = ()
 
 
 @dataclass
@@ -230,7 +231,8 @@ class _Builder:
                     block.order in switches.skip_blocks or skip_rows[r] or off_rows[r] for r in draft.relation_rows
                 )
                 no_sum = any(cleaned[r].no_sum for r in draft.rows)
-                self.entries.append(_Entry(block.source, block.order, draft, no_sum, skipped))
+                per_step = _no_sum_steps(draft, rows, cleaned) if no_sum else ()
+                self.entries.append(_Entry(block.source, block.order, draft, no_sum, skipped, per_step))
 
     def _row_switches(
         self, block: MathBlock, rows: list[list[Token]], breaks: list[Token], switches: _Switches
@@ -263,16 +265,35 @@ class _Builder:
                 draft = entry.draft
                 unreadable.append(Unreadable(entry.source, draft.span, draft.message, number, entry.order))
             else:
-                chains.append(_chain(entry.source, number, entry.draft, entry.no_sum, entry.skipped, entry.order))
+                chains.append(
+                    _chain(entry.source, number, entry.draft, entry.no_sum, entry.skipped, entry.order, entry.no_sum_steps)
+                )
         return chains, unreadable
 
 
-def _chain(source: SourceText, number: int, draft: ChainDraft, no_sum: bool, skipped: tuple[bool, ...], order: int) -> Chain:
+def _no_sum_steps(draft: ChainDraft, rows: list[list[Token]], cleaned: list) -> tuple[bool, ...]:
+    """Per step of a chain: whether a row holding a token of its sides or its relation
+    carries ``\\text{(no sum)}`` (the annotation belongs to its row, SPEC §7)."""
+    bounds = [(min(t.span.start for t in row), max(t.span.end for t in row)) if row else None for row in rows]
+    marked = [r for r, c in enumerate(cleaned) if c.no_sum and bounds[r] is not None]
+    out = []
+    for k, (_, relation_tokens) in enumerate(draft.relations):
+        tokens = list(draft.sides[k]) + list(relation_tokens) + list(draft.sides[k + 1])
+        out.append(any(
+            bounds[r][0] <= t.span.start < bounds[r][1] for r in marked for t in tokens  # type: ignore[index]
+        ))
+    return tuple(out)
+
+
+def _chain(
+    source: SourceText, number: int, draft: ChainDraft, no_sum: bool, skipped: tuple[bool, ...], order: int,
+    no_sum_steps: tuple[bool, ...] = (),
+) -> Chain:
     sides = tuple(Side(side, span_of(side)) for side in draft.sides)
     relations = tuple(
         Relation(found.kind, relation_text(tokens, source), found.mark, span_of(tokens)) for found, tokens in draft.relations
     )
-    return Chain(source, number, sides, relations, no_sum, skipped, order)
+    return Chain(source, number, sides, relations, no_sum, skipped, order, no_sum_steps)
 
 
 def _math_only(tokens: list[Token]) -> list[Token]:
