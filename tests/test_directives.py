@@ -183,3 +183,16 @@ def test_off_inside_a_display_applies_from_its_row() -> None:
 def test_markdown_directives_work_the_same() -> None:
     text = "<!-- stepcheck: off -->\n$$ a = b $$\n\n<!-- stepcheck: on -->\n\n$$ c = d $$\n"
     assert step_lines(structure(text, "md")) == ["doc.md:2:8 1.1 a = b skipped", "doc.md:6:8 2.1 c = d"]
+
+
+def test_a_skipped_display_defines_nothing():
+    # An optimiser's initialisation "w = 0" under `skip` is not a definition of w for the rest of
+    # the file: the gradient of w^T w stays 2w (sympy.diff), not a shape clash with a scalar 0.
+    from stepcheck import api
+    from stepcheck.verdicts import Verdict
+
+    text = (
+        "$\\mathbf{w} \\in \\mathbb{R}^{d}$\n<!-- stepcheck: skip -->\n$$\\mathbf{w} = \\mathbf{0}$$\n\n"
+        "$$\\nabla_{\\mathbf{w}} (\\mathbf{w}^\\top \\mathbf{w}) = 2\\mathbf{w}$$\n"
+    )
+    assert [s.verdict for s in api.check_text(text, kind="md").steps()] == [Verdict.SKIPPED, Verdict.HOLDS]

@@ -45,16 +45,10 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "whitening-contrastive.md:64:6": (
-        "a display under `skip` still defines: the skipped initialisation m = 0 replaces the declared "
-        "vector m by a scalar 0, so beta_1 m + (1 - beta_1) g becomes a scalar-plus-vector shape-error"
-    ),
-    "whitening-contrastive.md:65:6": "same cause: the skipped display m = 0 still defines m",
     "newton-lagrange-scratch.md:40:3": (
         "a bare 0 block in a bmatrix is taken as 1x1 instead of being sized by its row and column "
         "(m x m), so the KKT block product is a shape-error"
     ),
-    "whitening-contrastive.md:66:6": "same cause: the skipped display m = 0 still defines m (expected fails, not shape-error)",
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -184,6 +184,8 @@ def _collect_definitions(read: Sequence[ReadChain]) -> dict[StepKey, Definition]
         chain = item.chain
         reader = _reader(item.vocabulary)
         for index in range(1, len(chain.sides)):
+            if chain.skipped and chain.skipped[index - 1]:
+                continue  # a skipped display (an initialisation m = 0) defines nothing
             lhs, rhs = item.trees[index - 1], item.trees[index]
             side = chain.sides[index - 1]
             if defs.defines_rightwards(chain.relations[index - 1]):
@@ -356,6 +358,8 @@ def _units(
     units: list[Unit] = []
     for item in read:
         for index in range(1, len(item.chain.sides)):
+            if item.chain.skipped and item.chain.skipped[index - 1]:
+                continue  # a skipped step teaches no shape either
             lhs, rhs = item.trees[index - 1], item.trees[index]
             key = _key(item.chain, index)
             definition = definitions.get(key)
