@@ -241,12 +241,16 @@ def _with_reading_note(plan: StepPlan, outcome: Outcome) -> Outcome:
     note = levi_civita_note(outcome.verdict, (plan.lhs, plan.rhs), plan.findings, plan.step.source)
     if note is not None and note not in outcome.message:
         outcome = replace(outcome, message=f"{outcome.message}; {note}" if outcome.message else note)
-    if outcome.hint is None and outcome.verdict in _FAILING:
+    if outcome.hint is None and outcome.verdict in _STRUCTURAL:
         outcome = replace(outcome, hint=_product_reading_hint(plan))
     return outcome
 
 
-_FAILING = frozenset({Verdict.FAILS, Verdict.SHAPE_ERROR, Verdict.INDEX_ERROR})
+#: Verdicts a product read where a function was meant plausibly causes (a wrong value has
+#: likelier causes: a lost factor in c_2 (T - T_0) is no function call).
+_STRUCTURAL = frozenset({Verdict.SHAPE_ERROR, Verdict.INDEX_ERROR})
+#: A name with an index or a number in its subscript is a component or a numbered scalar.
+_SUBSCRIPTED = re.compile(r"_(?:\{)?[a-z0-9]")
 #: Bracket sizing written between a name and its parenthesis (``\\lambda\\bigl(``).
 _SIZING = re.compile(r"\\(?:left|right|[bB]igg?[lr]?|middle)\s*$")
 #: Greek letters that stand for scalars far more often than for functions.
@@ -272,7 +276,7 @@ def _product_reading_hint(plan: StepPlan) -> str | None:
                 continue
             written = source.slice(reading.span)
             name = _SIZING.sub("", written.split("(", 1)[0]).strip()
-            if name and not name.startswith(_GREEK_SCALARS):  # λ(A + I)^{-1}: a scalar, surely
+            if name and not name.startswith(_GREEK_SCALARS) and not _SUBSCRIPTED.search(name):
                 return (
                     f"`{written}` was read as a product; if {name} is a function, add the directive "
                     f"`function {name}`"
