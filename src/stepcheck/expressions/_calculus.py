@@ -151,6 +151,8 @@ class CalculusReading:
 
     def _order(self, mark: Token, a: int, b: int) -> int:
         toks = self.s.tokens[a:b]
+        if not toks:
+            return 1  # \partial^{} f: an empty order, as a macro's empty default writes it
         if len(toks) == 1 and toks[0].kind is TokenKind.NUMBER and toks[0].text.isdigit() and int(toks[0].text) >= 1:
             return int(toks[0].text)
         raise self.s.error(f"the order at {self.s.where(mark.span)} must be a positive whole number", mark.span)
