@@ -150,3 +150,14 @@ def test_an_inline_size_gets_a_note_where_it_is_fixed():
     (file,) = api.check_text(text, kind="md").files
     messages = [(n.line, n.message) for n in file.notes]
     assert (1, "m is fixed to 1 by this inline math: every size m in the file is 1") in messages
+
+
+def test_a_special_letter_stated_positive_is_an_ordinary_scalar():
+    # A beam's second moment of area I and modulus E: "$E, I > 0$" makes I a scalar, not the
+    # identity (SPEC §7: special unless the file declares the symbol otherwise); l/(EI) E = l/I
+    # (common practice: cancel E) holds, and l/(EI) E = l/E fails.
+    from stepcheck import api
+
+    text = "Modulus and second moment $E, I > 0$, span $\\ell > 0$.\n\\[ \\frac{\\ell}{E I}\\, E = \\frac{\\ell}{I} \\]\n" \
+           "\\[ \\frac{\\ell}{E I}\\, E = \\frac{\\ell}{E} \\]\n"
+    assert [s.verdict.value for s in api.check_text(text, kind="tex").steps()] == ["holds", "fails"]

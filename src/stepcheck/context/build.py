@@ -485,6 +485,17 @@ def _homes(
     return heights.home_heights(declared, defined, uses, vocabulary.metric, families)
 
 
+#: Statements that make a special letter an ordinary scalar (``I > 0``, ``\\sigma \\ge 0``).
+_SCALAR_KINDS = frozenset({AssumptionKind.POSITIVE, AssumptionKind.NONNEGATIVE, AssumptionKind.UNIT_INTERVAL})
+
+
+def _ordinary(facts: RowFacts) -> frozenset[str]:
+    """Names declared with a shape, or stated positive (a second moment of area ``I > 0``,
+    a spread ``\\sigma > 0``): ordinary symbols, never the special meaning (SPEC §7)."""
+    stated = {a.name for a in facts.assumptions if a.kind in _SCALAR_KINDS and not a.components}
+    return frozenset({d.name for d in facts.declarations} | stated)
+
+
 def _numbered_names(read: Sequence[ReadChain], facts: RowFacts) -> frozenset[str]:
     """Names written only with numeric subscripts anywhere in the math (``J_2``, ``R_1``),
     never bare, bold, with an index or declared: each numbered one is a scalar of its own
@@ -515,13 +526,13 @@ def build_context(structure: Structure, settings: Settings) -> DocumentContext:
     timeline = OptionTimeline(structure.directives, settings, [c.order for c in structure.chains])
     vocabulary, sizes = _vocabulary(structure, directive_vocabulary(structure.directives))
     facts: RowFacts = read_rows(structure.rows, structure.directives, _reader(vocabulary), vocabulary)
-    vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | {d.name for d in facts.declarations})
+    vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | _ordinary(facts))
     read = _read_all(structure, timeline, vocabulary)
     numbered = _numbered_names(read, facts)
     if numbered:
         vocabulary = dataclasses.replace(vocabulary, numbered=numbered)
         facts = read_rows(structure.rows, structure.directives, _reader(vocabulary), vocabulary)
-        vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | {d.name for d in facts.declarations})
+        vocabulary = dataclasses.replace(vocabulary, tensors=vocabulary.tensors | _ordinary(facts))
         read = _read_all(structure, timeline, vocabulary)
     definitions = _collect_definitions(read)
     taught = _taught(vocabulary, list(definitions.values()))

@@ -350,6 +350,8 @@ def assumption_of(lhs: n.Node, rhs: n.Node, relation: str) -> tuple[str, K] | No
     if relation in ZERO_RELATIONS:
         zero = isinstance(rhs, (n.Number, n.Zero)) and (not isinstance(rhs, n.Number) or rhs.value == 0)
         name = _bare(lhs) or (lhs.name if isinstance(lhs, n.Symbol) else None)
+        if isinstance(lhs, n.Identity) and lhs.size is None and relation in (">", "\\ge", "\\geq", "\\geqslant"):
+            name = "I"  # "E, I > 0": a second moment of area, a scalar, not the identity (SPEC §7)
         return (name, ZERO_RELATIONS[relation]) if zero and name is not None else None
     if relation != "=":
         return None
