@@ -48,9 +48,7 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "heat-plate-anisotropic.tex:17:44": "derivative reach: \\partial_i\\theta\\, \\partial_i\\theta is read as d_i(theta d_i theta), not a product of two gradients",
     "mixing-tank-vorticity.tex:21:47": "index j three times (epsilon_ijk d_j (u_j w_k)) is not an index-error when two of them sit inside the derivative's operand; checked and failed instead",
-    "crane-jib-continuum.tex:19:6": "derivative reach: \\partial_i u_j\\, \\partial_i u_j is read as d_i(u_j d_i u_j), not a product of two gradients",
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -274,9 +274,22 @@ class CalculusReading:
             if len(wrt) != 1:
                 raise self.s.error(f"an order on \\partial at {self.s.where(tok.span)} needs one variable", tok.span)
             wrt = wrt * order
-        body = self.rest(self.s.span_from(start), "\\partial")
-        self.note("derivative-reach", body.span, "the derivative applies to the rest of the product term")
+        body = self._next_factor_operand(self.s.span_from(start))
+        self.note("partial-reach", body.span, "\\partial_i applies to the next factor only")
         return n.Derivative(body, tuple(wrt), False, self.s.span_from(start))
+
+    def _next_factor_operand(self, owner: Span) -> n.Node:
+        """What ``\\partial_i`` applies to: the next factor (with its powers), as index
+        notation reads ``\\partial_i u_j\\,\\partial_i u_j`` (two gradients) and
+        ``\\partial_i\\partial_j A_k`` (nested); a product needs brackets, ``\\partial_i(\\phi A_i)``."""
+        tok = self.s.peek()
+        if tok is None or not self.starts_factor(tok, operand=True):
+            return self.rest(owner, "\\partial")  # a leading sign: the rest of the term, as before
+        self.enter(tok)
+        try:
+            return self.factor()
+        finally:
+            self.leave()
 
     def _operator_scripts(self, tok: Token) -> tuple[list[Script], list[Script]]:
         scripts = self.read_scripts()

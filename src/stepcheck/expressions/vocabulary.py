@@ -40,6 +40,7 @@ AMBIGUITY_RULES: dict[str, str] = {
         "otherwise they are symbols (\\sigma^2 x, \\sigma_{ij}, bare \\sigma)"
     ),
     "undeclared-product": "f(x+1) is a product unless f is declared a function (function f)",
+    "partial-reach": "\\partial_i u_j v_j is (\\partial_i u_j) v_j: the subscript form applies to the next factor only",
     "numbered-name": "J_2, R_1, \\beta_0 in a file that writes the letter only with numbers: a scalar named with its number",
     "labelled-function": "p_Z(z) with p (or p_Z) declared a function applies the function p_Z, its label part of its name",
     "transpose": (
