@@ -48,7 +48,6 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "mixing-tank-vorticity.tex:21:47": "index j three times (epsilon_ijk d_j (u_j w_k)) is not an index-error when two of them sit inside the derivative's operand; checked and failed instead",
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -47,6 +47,8 @@ PASSING = [
     ("other-dummies-in-a-sum-factor", r"y_j = x_j (a_k b_k + c_m d_m)"),
     ("bound-index-reused-in-a-sum-factor", r"s = \sum_j x_j (1 - y_j y_j)"),
     ("contraction-inside-a-function", r"q_j = x_j \exp(y_k y_k)"),
+    ("curl-of-a-field", r"c_i = \epsilon_{ijk}\partial_j u_k"),
+    ("divergence-inside-a-product", r"q_l = v_l \partial_j u_j"),
 ]
 
 
@@ -83,6 +85,12 @@ FAILING = [
     ("dummy-in-two-sum-factors", r"c = (a_k b_k + 1)(c_k d_k + 1)", m.IndexRepeatedInSum,
      "index k appears 4 times in the term `(a_k b_k + 1)(c_k d_k + 1)` once its parenthesised "
      "sum is multiplied out (column 5, right side)"),
+    ("dummy-in-a-derivative-factor", r"c_i = \epsilon_{ijk}\partial_j(u_j w_k)", m.IndexRepeatedInSum,
+     "index j appears 3 times in the term `\\epsilon_{ijk}\\partial_j(u_j w_k)` once its parenthesised "
+     "sum is multiplied out (column 7, right side)"),
+    ("dummy-in-a-derivative-operand", r"s_i = a_j \partial_i (u_j v_j)", m.IndexRepeatedInSum,
+     "index j appears 3 times in the term `a_j \\partial_i (u_j v_j)` once its parenthesised "
+     "sum is multiplied out (column 7, right side)"),
     ("dummy-in-a-nested-sum", r"q_j = x_j (1 + z (2 - y_j y_j))", m.IndexRepeatedInSum,
      "index j appears 3 times in the term `x_j (1 + z (2 - y_j y_j))` once its parenthesised "
      "sum is multiplied out (column 7, right side)"),

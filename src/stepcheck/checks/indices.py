@@ -122,7 +122,7 @@ class IndexReader:
     def _carried(self, factor: n.Node, below: bool) -> list[str]:
         """The summed indices a parenthesised sum (or ``\\sum``) factor brings into the
         product around it, twice each; none from a denominator."""
-        if below or not isinstance(factor, (n.Add, n.BigOp)):
+        if below or not isinstance(factor, (n.Add, n.BigOp, n.Derivative, n.Gradient)):
             return []
         return [name for name in sorted(self._dummies.get(id(factor), ())) for _ in range(2)]
 
@@ -264,7 +264,16 @@ class IndexReader:
         occurrences = list(self.free(node.expr))
         for variable in node.wrt:
             occurrences.extend(self._denominator(variable))
-        return self._term(occurrences, node)
+        free = self._term(occurrences, node)
+        self._keep_inner_dummies(node)
+        return free
+
+    def _keep_inner_dummies(self, node: n.Derivative | n.Gradient) -> None:
+        """A derivative factor brings the indices summed in it (by its denominator, or in its
+        operand) into the product around it, like a bracketed sum: in
+        ``\\epsilon_{ijk}\\partial_j(u_j w_k)`` the j of ε is the third."""
+        inner = self._dummies.get(id(node.expr), frozenset())
+        self._dummies[id(node)] = self._dummies.get(id(node), frozenset()) | inner
 
     def _gradient(self, node: n.Node) -> list[Occurrence]:
         assert isinstance(node, n.Gradient)
@@ -272,7 +281,9 @@ class IndexReader:
         if node.wrt is not None:
             for _ in range(node.order):
                 occurrences.extend(self._denominator(node.wrt))
-        return self._term(occurrences, node)
+        free = self._term(occurrences, node)
+        self._keep_inner_dummies(node)
+        return free
 
     def _denominator(self, variable: n.Variable) -> list[Occurrence]:
         """A variable's index subscripts, at the opposite height in up-down mode."""
