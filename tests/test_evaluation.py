@@ -757,3 +757,18 @@ def test_an_identity_minus_a_repeated_row_takes_its_size_from_the_row():
     a, y = rng.normal(size=4), rng.normal(size=4)
     ones = np.ones(4)
     assert np.allclose(-(np.eye(4) - np.outer(ones, a)).T @ y, a * (ones @ y) - y)
+
+
+def test_a_zero_block_takes_the_size_of_its_block_row_and_column():
+    # The KKT matrix of an equality-constrained quadratic, [[Q, A^T], [A, 0]] [z; lam] =
+    # [Qz + A^T lam; Az] (common practice; numpy below): the 0 block is m x m.
+    shapes = {"Q": ("n", "n"), "A": ("m", "n"), "z": ("n",), "\\lambda": ("m",)}
+    lhs = r"\begin{bmatrix} Q & A^\top \\ A & 0 \end{bmatrix}\begin{bmatrix} \mathbf{z} \\ \boldsymbol{\lambda} \end{bmatrix}"
+    held = decide_latex(lhs, r"\begin{bmatrix} Q\mathbf{z} + A^\top \boldsymbol{\lambda} \\ A\mathbf{z} \end{bmatrix}", shapes=shapes)
+    assert held.verdict is Verdict.HOLDS, held.message
+    wrong = decide_latex(lhs, r"\begin{bmatrix} Q\mathbf{z} + A^\top \boldsymbol{\lambda} \\ A\mathbf{z} + \boldsymbol{\lambda} \end{bmatrix}", shapes=shapes)
+    assert wrong.verdict is Verdict.FAILS
+    rng = np.random.default_rng(5)
+    Q, A, z, lam = rng.normal(size=(3, 3)), rng.normal(size=(2, 3)), rng.normal(size=3), rng.normal(size=2)
+    kkt = np.block([[Q, A.T], [A, np.zeros((2, 2))]])
+    assert np.allclose(kkt @ np.concatenate([z, lam]), np.concatenate([Q @ z + A.T @ lam, A @ z]))

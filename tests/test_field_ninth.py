@@ -45,10 +45,6 @@ DOCUMENT_SUFFIXES = (".tex", ".md", ".markdown", ".ipynb")
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "newton-lagrange-scratch.md:40:3": (
-        "a bare 0 block in a bmatrix is taken as 1x1 instead of being sized by its row and column "
-        "(m x m), so the KKT block product is a shape-error"
-    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

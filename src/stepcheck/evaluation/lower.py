@@ -500,12 +500,30 @@ class Lowerer(ArithmeticRules, FunctionRules):
         return self.index_positional(self.lower_value(node.operand, st), node.subs, st, node)
 
     def lower_MatrixLiteral(self, node: N.MatrixLiteral, st: State) -> AnyValue:
+        """A matrix written entry by entry or in blocks; an unsized block (``0``, ``I``,
+        ``\\mathbf{1}``) takes the height of its block row and the width of its block column
+        (``\\begin{bmatrix} Q & A^\\top \\\\ A & 0 \\end{bmatrix}``)."""
+        lowered = [
+            [LazyValue("zero") if isinstance(cell, N.Number) and cell.value == 0 else self.lower(cell, st) for cell in row]
+            for row in node.rows
+        ]
+        heights = [next((_block_shape(c)[0] for c in row if isinstance(c, Value)), None) for row in lowered]
+        columns = max(len(row) for row in lowered)
+        widths = [
+            next((_block_shape(row[k])[1] for row in lowered if k < len(row) and isinstance(row[k], Value)), None)
+            for k in range(columns)
+        ]
         rows = []
-        for row in node.rows:
-            cells = [self.lower_value(cell, st) for cell in row]
-            if any(c.labels for c in cells):
+        for r, (row, cells) in enumerate(zip(lowered, node.rows)):
+            values = []
+            for k, (value, cell) in enumerate(zip(row, cells)):
+                if isinstance(value, LazyValue):
+                    h, w = heights[r], widths[k]
+                    value = value.materialize((h, w)) if h is not None and w is not None else self.lower_value(cell, st)
+                values.append(value)
+            if any(c.labels for c in values):
                 raise Unsupported("a matrix literal with entries carrying free indices", node.span)
-            rows.append([c.data for c in cells])
+            rows.append([c.data for c in values])
         return make_value(linalg.concat_blocks(rows))
 
     # ------------------------------------------------------------------ derivatives
@@ -528,3 +546,13 @@ _HANDLERS: dict[type, Callable[..., AnyValue]] = {
 
 def _index_set(labels: tuple[str, ...] | list[str]) -> str:
     return "{" + ", ".join(sorted(labels)) + "}" if labels else "none"
+
+
+def _block_shape(value: Value) -> tuple[int, int]:
+    """A block's height and width (a scalar is 1×1, a vector a column)."""
+    data = value.data
+    if data.ndim == 0:
+        return 1, 1
+    if data.ndim == 1:
+        return data.shape[0], 1
+    return data.shape[0], data.shape[1]
