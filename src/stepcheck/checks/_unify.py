@@ -138,12 +138,13 @@ class Dims:
         return self.text(root)
 
     def shape_text(self, shape: Ids | None) -> str:
-        """``n×d``, ``d×1`` for a column, ``1×d`` for a row, ``scalar``; ``unknown``."""
+        """``n×d``, ``d×1`` for a column, ``1×d`` for a row, ``scalar``; ``unknown``.  A size
+        nothing names reads ``?1`` (the same mark for the same unknown size)."""
         if shape is None:
             return "unknown"
         if not shape:
             return "scalar"
-        parts = [self.text(d) for d in shape]
+        parts = ["?" + t[1:] if t.startswith("_") else t for t in (self.text(d) for d in shape)]
         if len(parts) == 1:
             parts.append("1")
         return "×".join(parts)
