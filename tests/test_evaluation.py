@@ -772,3 +772,18 @@ def test_a_zero_block_takes_the_size_of_its_block_row_and_column():
     Q, A, z, lam = rng.normal(size=(3, 3)), rng.normal(size=(2, 3)), rng.normal(size=3), rng.normal(size=2)
     kkt = np.block([[Q, A.T], [A, np.zeros((2, 2))]])
     assert np.allclose(kkt @ np.concatenate([z, lam]), np.concatenate([Q @ z + A.T @ lam, A @ z]))
+
+
+def test_a_fractional_power_of_a_diagonal_matrix_is_taken_entrywise():
+    # A graph's degree matrix D = diag(A 1) with positive weights: D^{1/2} D^{1/2} = D holds
+    # (common practice), the symmetric normalisation D^{-1/2} A D^{-1/2} is not D^{-1} A
+    # (numpy below), and A^{1/2} of a general matrix stays unsupported, saying why.
+    context = {"shapes": {"A": ("n", "n"), "x": ("n",)}, "assumptions": {"A": {"positive"}},
+               "definitions": {"D": r"\operatorname{diag}(A\mathbf{1})"}}
+    assert decide_latex(r"D^{1/2} D^{1/2}", "D", **context).verdict is Verdict.HOLDS
+    assert decide_latex(r"D^{-1/2} A D^{-1/2} \mathbf{x}", r"D^{-1} A \mathbf{x}", **context).verdict is Verdict.FAILS
+    refused = decide_latex(r"A^{1/2} A^{1/2}", "A", **context)
+    assert refused.verdict is Verdict.UNSUPPORTED and "not diagonal" in refused.message
+    A = np.array([[2.0, 2.0], [1.0, 1.0]])
+    d = A.sum(axis=1)
+    assert not np.allclose(np.diag(d ** -0.5) @ A @ np.diag(d ** -0.5), np.diag(1 / d) @ A)

@@ -259,10 +259,21 @@ class ArithmeticRules(_Base):
             return base.map(lambda x: self._power(x, e, node))
         if len(pos) == 2 and pos[0] == pos[1]:
             if not (isinstance(e, sympy.Integer) or (getattr(e, "is_integer", False) and e.is_number)):
-                raise Unsupported(f"a non-integer power of a {shape_text(pos)} matrix", node.span)
+                return self._blockwise(base, lambda b: self._diagonal_power(b, e, node))
             k = int(e)
             return self._blockwise(base, lambda b: linalg.matrix_power(self.inverse(b), -k) if k < 0 else linalg.matrix_power(b, k))
         raise Unsupported(f"a power of a {shape_text(pos)} array (write \\|x\\|^2 or x^\\top x)", node.span)
+
+    def _diagonal_power(self, block: np.ndarray, e: Any, node: N.Pow) -> np.ndarray:
+        """``D^{1/2}``, ``D^{-1/2}`` of a diagonal matrix (``D = \\operatorname{diag}(A\\mathbf{1})``):
+        the power of each diagonal entry.  Of any other matrix a non-integer power is not read."""
+        size = block.shape[0]
+        if any(block[i, j] != 0 for i in range(size) for j in range(size) if i != j):
+            raise Unsupported(
+                f"a non-integer power of a {shape_text(block.shape)} matrix that is not diagonal",
+                node.span,
+            )
+        return obj_array(block.shape, lambda i: self._power(block[i], e, node) if i[0] == i[1] else sympy.Integer(0))
 
     def _power(self, x: Any, e: Any, node: N.Node) -> Any:
         if self.env.numeric and x.is_number:
