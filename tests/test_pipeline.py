@@ -235,3 +235,19 @@ def test_a_failing_step_with_an_undeclared_function_says_how_to_declare_it():
     for directive in ("function p_Z", "function p"):
         (step,) = api.check_text(f"<!-- stepcheck: {directive} -->\n" + body, kind="md").steps()
         assert step.verdict is Verdict.HOLDS, (directive, step.outcome.message)
+
+
+def test_an_index_error_over_a_lone_subscript_suggests_the_label_directive():
+    # A truss element's stiffness K_f = EA/L: f is written once, as K's only subscript, so the
+    # index error (f free on the left only; common practice: the summation convention) may be a
+    # name read as an index; with `label f` the step is a definition.
+    from stepcheck import api
+
+    body = "$$\nK_f = \\frac{E A}{L}\n$$\n"
+    (step,) = api.check_text(body, kind="md").steps()
+    assert step.verdict is Verdict.INDEX_ERROR
+    assert step.outcome.hint == "if f names something here (K_f is one symbol, not a component), add the directive `label f`"
+    (step,) = api.check_text("<!-- stepcheck: label f -->\n\n" + body, kind="md").steps()
+    assert step.verdict is Verdict.DEFINES
+    (step,) = api.check_text("$$\nc = x_i y_i z_i\n$$\n", kind="md").steps()
+    assert step.verdict is Verdict.INDEX_ERROR and step.outcome.hint is None

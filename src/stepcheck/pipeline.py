@@ -243,7 +243,33 @@ def _with_reading_note(plan: StepPlan, outcome: Outcome) -> Outcome:
         outcome = replace(outcome, message=f"{outcome.message}; {note}" if outcome.message else note)
     if outcome.hint is None and outcome.verdict in _STRUCTURAL:
         outcome = replace(outcome, hint=_product_reading_hint(plan))
+    if outcome.hint is None and outcome.verdict is Verdict.INDEX_ERROR:
+        outcome = replace(outcome, hint=_label_hint(plan))
     return outcome
+
+
+def _label_hint(plan: StepPlan) -> str | None:
+    """An index error over a letter written once in the step, as the only subscript of a
+    symbol (``K_f = EA/L``, an element's stiffness): the letter may be a name, not an index."""
+    from .expressions import nodes as n
+
+    assert plan.lhs is not None and plan.rhs is not None
+    counts: dict[str, int] = {}
+    lone: dict[str, str] = {}
+    for side in (plan.lhs, plan.rhs):
+        for node in side.walk():
+            if isinstance(node, n.Index):
+                counts[node.name] = counts.get(node.name, 0) + 1
+            if isinstance(node, n.Symbol) and len(node.subs) == 1 and isinstance(node.subs[0], n.Index):
+                lone.setdefault(node.subs[0].name, f"{node.name}_{node.subs[0].name}")
+    names = [letter for letter, count in counts.items() if count == 1 and letter in lone and len(letter) == 1]
+    if len(names) != 1:
+        return None
+    letter = names[0]
+    return (
+        f"if {letter} names something here ({lone[letter]} is one symbol, not a component), add the "
+        f"directive `label {letter}`"
+    )
 
 
 #: Verdicts a product read where a function was meant plausibly causes (a wrong value has
