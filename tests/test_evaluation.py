@@ -787,3 +787,13 @@ def test_a_fractional_power_of_a_diagonal_matrix_is_taken_entrywise():
     A = np.array([[2.0, 2.0], [1.0, 1.0]])
     d = A.sum(axis=1)
     assert not np.allclose(np.diag(d ** -0.5) @ A @ np.diag(d ** -0.5), np.diag(1 / d) @ A)
+
+
+def test_a_log_determinant_keeps_a_triangular_argument_triangular():
+    # det of a lower-triangular L is the product of its diagonal (textbook linear algebra), so
+    # log det L = log prod_i L_ii; a log-det must not redraw L as a symmetric positive definite
+    # matrix, where the identity is false.
+    context = {"shapes": {"L": ("d", "d")}, "assumptions": {"L": {"lower-triangular"}}}
+    held = decide_latex(r"\log\det L", r"\log \prod_{i} L_{ii}", **context)
+    assert held.verdict is Verdict.HOLDS, held.message
+    assert decide_latex(r"\log\det L", r"\log \prod_{i} L_{ii} + 1", **context).verdict is Verdict.FAILS

@@ -141,7 +141,9 @@ class Drawer:
         analysis = self.model.analysis
         if spec.name in analysis.positive_inputs:
             kinds.add(K.POSITIVE)
-        if spec.name in analysis.spd_inputs:
+        if spec.name in analysis.spd_inputs and not kinds & _OWN_STRUCTURE:
+            # \log\det X: drawn positive definite, unless X has a structure of its own (a
+            # triangular L keeps it; a draw with det L <= 0 is outside the domain and redrawn)
             kinds.add(K.SPD if spec.axes else K.POSITIVE)
         return frozenset(kinds)
 
@@ -272,6 +274,11 @@ class Drawer:
 
 
 _VECTOR_STRUCTURES = frozenset({K.PROBABILITY, K.ONE_HOT, K.SUMS_TO_ONE})
+#: Structures a log-determinant's argument keeps instead of being drawn positive definite.
+_OWN_STRUCTURE = frozenset({
+    K.LOWER_TRIANGULAR, K.UPPER_TRIANGULAR, K.DIAGONAL, K.ORTHOGONAL, K.SKEW,
+    K.ORTHONORMAL_COLUMNS, K.ORTHONORMAL_ROWS,
+})
 _ORTHONORMAL = frozenset({K.ORTHONORMAL_COLUMNS, K.ORTHONORMAL_ROWS})
 _BUILDERS = {
     K.ORTHOGONAL: Drawer._orthogonal,
