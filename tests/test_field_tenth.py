@@ -37,14 +37,6 @@ from field_harness import Corpus
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "glacier-flow-coupling.tex:22:14": (
-        "log det of a matrix assumed lower-triangular is sampled from non-triangular draws "
-        "(L=[[3,1],[1,2]]): the triangular assumption is lost under log det"
-    ),
-    "kiln-thermal-network.tex:42:31": (
-        "a partial explicit sum \\sum_{i=1}^{2} over a 3-vector is a shape-error ('index i ranges "
-        "over both 2 and 3') instead of summing rows 1..2"
-    ),
     "shuttle-regulator-riccati.tex:59:8": (
         "a bracket broken across align rows (\\left[ R \\right. \\\\ \\left. {} + B^TPB \\right]) is "
         "refused as an evaluation bar instead of dropping the sizing"

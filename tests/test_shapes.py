@@ -230,3 +230,17 @@ def test_product_shapes_agree_with_numpy_matmul(factors):
     rows, cols = result.shape
     expected = () if (rows, cols) == (1, 1) else (sizes[rows],) if cols == 1 else (1 if rows == 1 else sizes[rows], sizes[cols])
     assert found == expected
+
+
+def test_a_sum_over_part_of_an_axis_is_no_shape_error():
+    # A thermal network's first two node balances, sum_{i=1}^{2} (G T)_i with G 3x3: a partial
+    # sum (common practice); only a limit past the axis's length is an error.
+    from stepcheck import api
+
+    text = (
+        "$G \\in \\mathbb{R}^{3\\times 3}$, $\\mathbf{T} \\in \\mathbb{R}^3$\n\n"
+        "$$\n\\sum_{i=1}^{2} (G\\mathbf{T})_i = (G\\mathbf{T})_1 + (G\\mathbf{T})_2\n$$\n\n"
+        "$$\n\\sum_{i=1}^{4} T_i = T_1\n$$\n"
+    )
+    verdicts = [s.verdict.value for s in api.check_text(text, kind="md").steps()]
+    assert verdicts == ["holds", "shape-error"]

@@ -493,11 +493,23 @@ class StepShapes(ShapeLearning):
 
     def _bigop(self, node: n.Node) -> Val:
         assert isinstance(node, n.BigOp)
+        counted: list[tuple[str, int]] = []
         for binding in node.bindings:
+            count = _count_limit(binding, 1 if self.options.one_based else 0)
+            if count is not None:
+                counted.append((binding.index, count))  # \sum_{i=1}^{2}: maybe part of an axis
+                continue
             dim = self._binding_range(binding)
             if dim is not None:
                 self._range(binding.index, dim, node)
         body = self.visit(node.body)
+        for letter, count in counted:
+            known = self.ranges.get(letter)
+            size = self.dims.text(known) if known is not None else None
+            if size is None or not size.isdigit():
+                self._range(letter, self.dims.const(count), node)  # it tells the axis's length
+            elif int(size) < count:
+                self._at(m.ShapeIndexRange, node, letter, size, str(count))
         return Val(body.shape, number=body.number)
 
     def _binding_range(self, binding: n.Binding) -> DimId | None:
@@ -618,3 +630,13 @@ def side_axes(node: n.Node, context: StepContext, source: SourceText | None = No
     if val.shape is None:
         return None
     return sum(1 for d in val.shape if not env.dims.is_one(d))
+
+
+def _count_limit(binding: n.Binding, first: int) -> int | None:
+    """``\\sum_{i=1}^{3}``: how many values a numeric upper limit from the first index gives."""
+    lower, upper = binding.lower, binding.upper
+    if not (lower is None or (isinstance(lower, n.Number) and lower.value == first)):
+        return None
+    if isinstance(upper, n.Number) and upper.value.denominator == 1 and upper.value > 0:
+        return int(upper.value) + (1 - first)
+    return None
