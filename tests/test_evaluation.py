@@ -797,3 +797,16 @@ def test_a_log_determinant_keeps_a_triangular_argument_triangular():
     held = decide_latex(r"\log\det L", r"\log \prod_{i} L_{ii}", **context)
     assert held.verdict is Verdict.HOLDS, held.message
     assert decide_latex(r"\log\det L", r"\log \prod_{i} L_{ii} + 1", **context).verdict is Verdict.FAILS
+
+
+def test_a_plain_matrix_under_a_log_determinant_is_drawn_general_with_a_positive_determinant():
+    # d log det K / dK = K^{-T} in denominator layout, K^{-1} in numerator layout (The Matrix
+    # Cookbook, eq. 57; number recalled from memory). A symmetric draw would make both hold;
+    # a general draw with det K > 0 keeps the log defined and tells them apart.
+    shapes = {"K": ("m", "m")}
+    numerator = decide_latex(r"\frac{\partial \log\det K}{\partial K}", r"K^{-1}", shapes=shapes)
+    assert numerator.verdict is Verdict.HOLDS, numerator.message
+    slip = decide_latex(r"\frac{\partial \log\det K}{\partial K}", r"K^{-\top}", shapes=shapes)
+    assert slip.verdict is Verdict.FAILS
+    K = np.array([[float(Fraction(str(x))) for x in row] for row in slip.counterexample["inputs"]["K"]])
+    assert np.linalg.det(K) > 0 and not np.allclose(K, K.T)

@@ -34,10 +34,6 @@ from field_harness import Corpus
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "kron-sensor-grid-reml.md:30:45": (
-        "log det K draws K symmetric (its domain), so K^-T and K^-1 both hold for d logdet K/dK in"
-        " either layout: a layout or transpose error under log det is never caught"
-    ),
     "reml-orchard-yield.md:29:66": (
         "timeout (10 s): the denominator-layout gradient of y^T P y by an spd Sigma, with P defined"
         " through Sigma^-1 and M^-1, is too slow (d(y^T P y) = -P y y^T P)"

@@ -129,6 +129,8 @@ class Drawer:
             if spec.chain_variable:
                 continue
             raw[name] = self._input(spec, self._kinds(spec))
+            if self._general_log_det(spec):
+                raw[name] = _positive_determinant(raw[name])
         functions = {
             name: obj_array((len(poly_terms(fn.arity)),), lambda i: self._entry(frozenset()))
             for name, fn in analysis.functions.items()
@@ -141,11 +143,21 @@ class Drawer:
         analysis = self.model.analysis
         if spec.name in analysis.positive_inputs:
             kinds.add(K.POSITIVE)
-        if spec.name in analysis.spd_inputs and not kinds & _OWN_STRUCTURE:
+        if spec.name in analysis.spd_inputs and not kinds & _OWN_STRUCTURE and not self._general_log_det(spec):
             # \log\det X: drawn positive definite, unless X has a structure of its own (a
             # triangular L keeps it; a draw with det L <= 0 is outside the domain and redrawn)
             kinds.add(K.SPD if spec.axes else K.POSITIVE)
         return frozenset(kinds)
+
+    def _general_log_det(self, spec: InputSpec) -> bool:
+        """A plain square matrix under a log-determinant (``\\log\\det K`` with K not said to be
+        symmetric or anything else): drawn general with a positive determinant, so a
+        transpose slip (K^{-1} for K^{-\\top}) shows; a symmetric one is drawn positive definite."""
+        if spec.name not in self.model.analysis.spd_inputs or spec.family is not None:
+            return False
+        shape = self.model.input_shape(spec)
+        structured = set(spec.kinds) | set(self.extra.get(spec.name, ()))
+        return len(shape) == 2 and shape[0] == shape[1] and shape[0] > 1 and not structured
 
     # ------------------------------------------------------------------ entries
 
@@ -293,6 +305,16 @@ _BUILDERS = {
     K.LOWER_TRIANGULAR: Drawer._lower,
     K.UPPER_TRIANGULAR: Drawer._upper,
 }
+
+
+def _positive_determinant(m: np.ndarray) -> np.ndarray:
+    """The same draw with its first row negated when its determinant is negative (a singular
+    draw stays singular: its log-determinant is outside the domain and it is redrawn)."""
+    det = sympy.Matrix(m.tolist()).det()
+    if det < 0:
+        m = m.copy()
+        m[0, :] = -m[0, :]
+    return m
 
 
 def _normalise_columns(raw: np.ndarray) -> np.ndarray:
