@@ -275,6 +275,8 @@ def _label_hint(plan: StepPlan) -> str | None:
 #: Verdicts a product read where a function was meant plausibly causes (a wrong value has
 #: likelier causes: a lost factor in c_2 (T - T_0) is no function call).
 _STRUCTURAL = frozenset({Verdict.SHAPE_ERROR, Verdict.INDEX_ERROR})
+#: A bold name's letter (``\\mathbf{Z}`` is the tensor Z).
+_BOLD = re.compile(r"^\\(?:mathbf|boldsymbol|bm|vec)\{(.+)\}$")
 #: A name with an index or a number in its subscript is a component or a numbered scalar.
 _SUBSCRIPTED = re.compile(r"_(?:\{)?[a-z0-9]")
 #: Bracket sizing written between a name and its parenthesis (``\\lambda\\bigl(``).
@@ -302,6 +304,9 @@ def _product_reading_hint(plan: StepPlan) -> str | None:
                 continue
             written = source.slice(reading.span)
             name = _SIZING.sub("", written.split("(", 1)[0]).strip()
+            known = plan.context.shapes.symbols.get(_BOLD.sub(r"\1", name))
+            if known or name in plan.context.definitions:
+                continue  # a declared or defined matrix before a bracket is a product
             if name and not name.startswith(_GREEK_SCALARS) and not _SUBSCRIPTED.search(name):
                 return (
                     f"`{written}` was read as a product; if {name} is a function, add the directive "
