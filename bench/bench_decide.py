@@ -38,6 +38,12 @@ GP = {
                     r"\mathcal{L}": r"-\tfrac12 \mathbf{y}^\top K^{-1}\mathbf{y} - \tfrac12 \log\det K"},
 }
 
+REML = {
+    "shapes": {"X": ("n", "p"), "y": ("n",), r"\Sigma": ("n", "n"), "P": ("n", "n")},
+    "assumptions": {r"\Sigma": {"spd"}}, "layout": "denominator",
+    "definitions": {"P": r"\Sigma^{-1} - \Sigma^{-1} X (X^\top \Sigma^{-1} X)^{-1} X^\top \Sigma^{-1}"},
+}
+
 #: (name, lhs, rhs, context) — invented scenarios.
 STEPS = [
     ("scalar identity (proof)", r"(a + b)^2", r"a^2 + 2ab + b^2", {}),
@@ -68,6 +74,8 @@ STEPS = [
     ("log-likelihood gradient through K^{-1}, log det", r"\frac{\partial \mathcal{L}}{\partial a}",
      r"\tfrac12 \boldsymbol{\alpha}^\top C \boldsymbol{\alpha} - \tfrac12 \operatorname{tr}(K^{-1} C)", GP),
     ("metric lowering (up-down mode)", r"g_{ij}u^{i}u^{j}", r"u^{i}u_{i}", {"up_down": True, "metric": "g"}),
+    ("REML projection gradient, nested inverses", r"\frac{\partial}{\partial \Sigma} \mathbf{y}^\top P \mathbf{y}",
+     r"-P \mathbf{y} \mathbf{y}^\top P", REML),
 ]
 
 

@@ -341,3 +341,36 @@ def test_a_rate_written_for_a_defined_symbol_is_the_rate_of_that_symbol():
     assert held.verdict is Verdict.HOLDS, held.message
     lost = decide_latex(r"\frac{\mathrm{d}\psi}{\mathrm{d}t}", r"\mu E_{ij}\dot{E}_{ij}", shapes=shapes, definitions=definitions)
     assert lost.verdict is Verdict.FAILS
+
+
+def test_a_gradient_through_nested_inverses_is_decided():
+    # An orchard-yield REML criterion: with P = S^-1 - S^-1 X (X^T S^-1 X)^-1 X^T S^-1,
+    # d(y^T P y)/dS = -P y y^T P in denominator layout (P is the derivative-stable projection;
+    # common practice in mixed models, checked here by central differences on one draw).
+    context = {
+        "shapes": {"X": ("n", "p"), "y": ("n",), "\\Sigma": ("n", "n"), "P": ("n", "n")},
+        "assumptions": {"\\Sigma": {"spd"}}, "layout": "denominator",
+        "definitions": {"P": r"\Sigma^{-1} - \Sigma^{-1} X (X^\top \Sigma^{-1} X)^{-1} X^\top \Sigma^{-1}"},
+    }
+    lhs = r"\frac{\partial}{\partial \Sigma} \mathbf{y}^\top P \mathbf{y}"
+    assert decide_latex(lhs, r"-P \mathbf{y} \mathbf{y}^\top P", **context).verdict is Verdict.HOLDS
+    assert decide_latex(lhs, r"P \mathbf{y} \mathbf{y}^\top P", **context).verdict is Verdict.FAILS
+
+    rng = np.random.default_rng(7)
+    X, y = rng.normal(size=(3, 2)), rng.normal(size=3)
+    B = rng.normal(size=(3, 3))
+    S = B @ B.T + 3 * np.eye(3)
+
+    def quad(S):
+        Si = np.linalg.inv(S)
+        P = Si - Si @ X @ np.linalg.inv(X.T @ Si @ X) @ X.T @ Si
+        return y @ P @ y
+
+    h, grad = 1e-6, np.zeros((3, 3))
+    for i in range(3):
+        for j in range(3):
+            E = np.zeros((3, 3)); E[i, j] = h
+            grad[i, j] = (quad(S + E) - quad(S - E)) / (2 * h)
+    Si = np.linalg.inv(S)
+    P = Si - Si @ X @ np.linalg.inv(X.T @ Si @ X) @ X.T @ Si
+    assert np.allclose(grad, -P @ np.outer(y, y) @ P, atol=1e-6)

@@ -34,10 +34,6 @@ from field_harness import Corpus
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "reml-orchard-yield.md:29:66": (
-        "timeout (10 s): the denominator-layout gradient of y^T P y by an spd Sigma, with P defined"
-        " through Sigma^-1 and M^-1, is too slow (d(y^T P y) = -P y y^T P)"
-    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

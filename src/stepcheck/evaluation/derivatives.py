@@ -65,9 +65,9 @@ def lower_derivative(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) ->
         symbolic = Lowerer(lw.model, lw.model.symbol_env(), placeholders)
         symbolic.opaque_matrices = True  # inverses and determinants stay small (see .opaque)
         value = _symbolic(symbolic, node, replace(st, keep=frozenset()))
-        entry = (value, placeholders, tuple(symbolic.notes))
+        entry = (value, placeholders, tuple(symbolic.notes), _shared_parts(value))
         lw.model.derivative_cache[key] = entry
-    value, placeholders, notes = entry
+    value, placeholders, notes, shared = entry
     lw.notes.extend(n for n in notes if n not in lw.notes)
     table = dict(_substitution(lw))
     for dummies, sub_node, sub_state in placeholders:
@@ -76,7 +76,45 @@ def lower_derivative(lw: Lowerer, node: N.Derivative | N.Gradient, st: State) ->
             raise Unsupported("a subexpression changed shape between draws", sub_node.span)
         for idx in np.ndindex(*dummies.shape):
             table[dummies[idx]] = filled.data[idx]
+    if shared is not None:
+        replacements, reduced = shared
+        for symbol, part in replacements:  # each shared subexpression once, in order
+            table[symbol] = part.xreplace(table)
+        return Value(obj_array(value.data.shape, lambda i: _finish(lw, reduced[i])
+                               if not hasattr(reduced[i], "xreplace") else _finish(lw, reduced[i].xreplace(table))),
+                     value.labels)
     return value.map(lambda e: _finish(lw, e.xreplace(table) if hasattr(e, "xreplace") else e))
+
+
+#: Derivative values at least this large (operations over all entries) are evaluated through
+#: their common subexpressions: nested inverses repeat the same subtrees many times over.
+SHARED_OPS = 2000
+
+
+def _dag_size(exprs: list, limit: int) -> int:
+    """How many distinct subexpressions the values hold, counted up to ``limit`` (a walk over
+    the shared graph, never over the tree it unfolds to)."""
+    seen: set = set()
+    stack = list(exprs)
+    while stack and len(seen) < limit:
+        e = stack.pop()
+        if e in seen:
+            continue
+        seen.add(e)
+        stack.extend(a for a in getattr(e, "args", ()) if isinstance(a, sympy.Basic))
+    return len(seen)
+
+
+def _shared_parts(value: Value) -> tuple[list, np.ndarray] | None:
+    """The common subexpressions of a large derivative value (``sympy.cse``), found once per
+    size assignment, so that a draw substitutes into each shared part once instead of into
+    every copy of it; None for a small value."""
+    entries = list(value.data.flat)
+    exprs = [e for e in entries if isinstance(e, sympy.Basic)]
+    if not exprs or _dag_size(exprs, SHARED_OPS) < SHARED_OPS:
+        return None
+    replacements, reduced = sympy.cse(entries, symbols=sympy.numbered_symbols("_shared"), order="none")
+    return replacements, np.array(reduced, dtype=object).reshape(value.data.shape)
 
 
 def _substitution(lw: Lowerer) -> dict:
