@@ -153,3 +153,28 @@ class Corpus:
             if case_id not in expected
         }
         assert not extra, extra
+
+
+def corpus_tests(corpus: Corpus) -> dict[str, Any]:
+    """The four tests every corpus module runs, to be added to its namespace
+    (``globals().update(corpus_tests(CORPUS))``)."""
+
+    def test_known_disagreements_name_real_cases() -> None:
+        corpus.check_known_names()
+
+    @pytest.mark.parametrize("document", corpus.document_params())
+    def test_sidecar_positions_point_at_written_math(document: Path) -> None:
+        corpus.check_sidecar(document)
+
+    @pytest.mark.parametrize(("document", "entry"), corpus.cases())
+    def test_step_verdict_matches_ground_truth(document: Path, entry: dict[str, Any]) -> None:
+        corpus.check_step(document, entry)
+
+    @pytest.mark.parametrize("document", corpus.extra_params())
+    def test_no_step_outside_ground_truth(document: Path) -> None:
+        corpus.check_no_extra(document)
+
+    return {f.__name__: f for f in (
+        test_known_disagreements_name_real_cases, test_sidecar_positions_point_at_written_math,
+        test_step_verdict_matches_ground_truth, test_no_step_outside_ground_truth,
+    )}

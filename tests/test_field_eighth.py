@@ -30,11 +30,8 @@ match the tool.
 
 from __future__ import annotations
 
-from pathlib import Path
-from typing import Any
 
-import pytest
-from field_harness import Corpus
+from field_harness import Corpus, corpus_tests
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
@@ -54,20 +51,5 @@ def test_corpus_shape() -> None:
     for document in documents:
         assert len(CORPUS.sidecar(document)) >= 10, document.name
 
-def test_known_disagreements_name_real_cases() -> None:
-    CORPUS.check_known_names()
 
-
-@pytest.mark.parametrize("document", CORPUS.document_params())
-def test_sidecar_positions_point_at_written_math(document: Path) -> None:
-    CORPUS.check_sidecar(document)
-
-
-@pytest.mark.parametrize(("document", "entry"), CORPUS.cases())
-def test_step_verdict_matches_ground_truth(document: Path, entry: dict[str, Any]) -> None:
-    CORPUS.check_step(document, entry)
-
-
-@pytest.mark.parametrize("document", CORPUS.extra_params())
-def test_no_step_outside_ground_truth(document: Path) -> None:
-    CORPUS.check_no_extra(document)
+globals().update(corpus_tests(CORPUS))
