@@ -34,10 +34,6 @@ from field_harness import Corpus, corpus_tests
 
 # Known disagreements, keyed by case id; the reason is the likely cause.
 KNOWN: dict[str, str] = {
-    "shuttle-regulator-riccati.tex:59:8": (
-        "a bracket broken across align rows (\\left[ R \\right. \\\\ \\left. {} + B^TPB \\right]) is "
-        "refused as an evaluation bar instead of dropping the sizing"
-    ),
 }
 
 # Documents where stepcheck reports a step at a position the ground truth does not have.

@@ -519,3 +519,19 @@ def test_a_no_sum_annotation_belongs_to_the_steps_on_its_row():
     )
     verdicts = [s.verdict.value for s in api.check_text(text, kind="md").steps()]
     assert verdicts == ["holds", "holds", "index-error", "defines", "holds"]
+
+
+def test_a_sized_bracket_broken_across_rows_reads_as_one():
+    # \left[ R \right. \\ \left. {} + B^T P B \right]^{-1}: a Riccati update typeset over two
+    # rows (common practice in control notes); the null ends go and the bracket is whole.
+    from stepcheck import api
+
+    text = (
+        "$Q, P \\in \\mathbb{S}^{n}$, $A \\in \\mathbb{R}^{n\\times n}$, $B \\in \\mathbb{R}^{n\\times m}$, "
+        "$R \\in \\mathbb{S}^{m}_{++}$, $P \\succ 0$\n"
+        "\\begin{align}\n\\Pi &= Q - A^\\top P B \\left[ R \\right. \\nonumber\\\\\n"
+        "    &\\qquad \\left. {} + B^\\top P B \\right]^{-1} B^\\top P A \\\\\n"
+        "    &= Q - A^\\top P B (R + B^\\top P B)^{-1} B^\\top P A\n\\end{align}\n"
+    )
+    steps = list(api.check_text(text, kind="tex").steps())
+    assert [s.verdict.value for s in steps] == ["defines", "holds"]

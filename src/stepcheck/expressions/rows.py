@@ -347,12 +347,31 @@ def logical_lines(rows: Sequence[CleanRow], join_all: bool = False) -> list[list
             continue
         marks = row.after_alignment or (False,) * len(row.tokens)
         placed = [Placed(t, index, mark) for t, mark in zip(row.tokens, marks)]
-        if lines and (join_all or continues_row(row, previous)):
+        if lines and _bridged(lines[-1], placed):
+            # \left[ R \right. \\ \left. {} + S \right]: one bracket broken across rows
+            del lines[-1][-2:]
+            rest = placed[2:]
+            if len(rest) > 2 and rest[0].token.kind is TokenKind.OPEN and rest[1].token.kind is TokenKind.CLOSE:
+                rest = rest[2:]  # the {} that made the next + binary
+            lines[-1].extend(rest)
+        elif lines and (join_all or continues_row(row, previous)):
             lines[-1].extend(placed)
         else:
             lines.append(placed)
         previous = row
     return lines
+
+
+def _bridged(line: list[Placed], row: list[Placed]) -> bool:
+    """Whether a line ends with ``\\right.`` and the next row starts with ``\\left.``: a sized
+    bracket the author broke across rows, which reads as one when both null ends go."""
+    if len(line) < 2 or len(row) < 3:
+        return False
+    end, start = [p.token for p in line[-2:]], [p.token for p in row[:2]]
+    return (
+        end[0].is_command("\\right") and end[1].is_symbol(".")
+        and start[0].is_command("\\left") and start[1].is_symbol(".")
+    )
 
 
 @dataclass
