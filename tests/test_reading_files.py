@@ -14,6 +14,7 @@ import socket
 from typing import Iterator
 
 import pytest
+from robustness_helpers import put
 
 from stepcheck.documents import InputError, discover, read_path, read_text
 from stepcheck.documents.files import decode, read_bytes, recording_reads
@@ -27,14 +28,6 @@ def here(tmp_path: pathlib.Path, monkeypatch: pytest.MonkeyPatch) -> pathlib.Pat
     return tmp_path
 
 
-def put(root: pathlib.Path, name: str, content: str | bytes) -> pathlib.Path:
-    path = root / name
-    path.parent.mkdir(parents=True, exist_ok=True)
-    if isinstance(content, bytes):
-        path.write_bytes(content)
-    else:
-        path.write_text(content, encoding="utf-8", newline="")
-    return path
 
 
 @contextlib.contextmanager

@@ -28,7 +28,7 @@ from .expressions.splitting import structure_of
 from .expressions.tokens import tokens_latex
 from .limits import StepTimeout, time_limit
 from .results import FileNote, FileReport, Outcome, Report, StepResult
-from .context.model import Summation
+from .context.model import StepContext, Summation
 from .settings import Settings
 from .source import SourceText
 from .verdicts import RelationKind, Verdict
@@ -166,7 +166,7 @@ def prepare_evaluator() -> None:
     if _PREPARED:
         return
     _PREPARED = True
-    from .context.model import ShapeTable, StepContext, StepOptions, Vocabulary
+    from .context.model import ShapeTable, StepOptions, Vocabulary
     from .evaluation import decide
     from .expressions.parser import parse_latex
 
@@ -332,9 +332,13 @@ def _explicit_reading_hint(plan: StepPlan, settings: Settings) -> str | None:
     assert plan.lhs is not None and plan.rhs is not None
     if plan.defines is not None or plan.step.relation.kind is RelationKind.APPROX:
         return plan.findings[0].hint
+    def holds_in(context: StepContext) -> bool:
+        assert plan.lhs is not None and plan.rhs is not None
+        relation = plan.step.relation
+        return decide(plan.lhs, plan.rhs, relation.kind, context, settings, relation_text=relation.text).verdict is Verdict.HOLDS
+
     explicit = replace(plan.context, no_sum=True)
-    outcome = decide(plan.lhs, plan.rhs, plan.step.relation.kind, explicit, settings, relation_text=plan.step.relation.text)
-    if outcome.verdict is Verdict.HOLDS:
+    if holds_in(explicit):
         return (
             "holds when read without implicit summation (a repeated index elementwise, a term "
             "without an index constant along it); if "
@@ -345,9 +349,7 @@ def _explicit_reading_hint(plan: StepPlan, settings: Settings) -> str | None:
         return None
     # the definitions the step uses may need the same reading (y_i = (x_i - \mu)/s): only
     # the directive reads them so, a row's (no sum) does not reach them
-    everywhere = replace(explicit, options=replace(plan.context.options, summation=Summation.EXPLICIT))
-    outcome = decide(plan.lhs, plan.rhs, plan.step.relation.kind, everywhere, settings, relation_text=plan.step.relation.text)
-    if outcome.verdict is Verdict.HOLDS:
+    if holds_in(replace(explicit, options=replace(plan.context.options, summation=Summation.EXPLICIT))):
         return (
             "holds when it and the definitions it uses are read without implicit summation (a "
             "repeated index elementwise, a term without an index constant along it); if that is "
